@@ -1,0 +1,78 @@
+"""The exceptions siderod raises, in one tree, so callers can catch them by meaning."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+__all__ = [
+    "SiderodError",
+    "ConfigError",
+    "ConfigErrors",
+    "ServiceNotRunning",
+    "ControlError",
+    "InternalError",
+]
+
+
+class SiderodError(Exception):
+    """Base class of every error siderod raises on purpose."""
+
+
+@dataclass(eq=False)
+class ConfigError(SiderodError):
+    """One problem in a configuration or target file.
+
+    The message has the usual compiler shape, ``file:line: key: expected ..., got ...``, so an
+    editor can jump to it and the user sees what to type instead.
+
+    Attributes:
+        path: the file, as the user named it (or as found on the search path).
+        line: 1-based line number, or None when it cannot be located.
+        key: dotted key path as the user spelled it, e.g. ``target[3].ra``.
+        got: the offending text or value, repeated back.
+        expected: what would have been accepted, phrased to teach the fix.
+    """
+
+    path: str
+    line: int | None
+    key: str
+    got: str
+    expected: str
+
+    def __post_init__(self) -> None:
+        super().__init__(str(self))
+
+    def __str__(self) -> str:
+        where = f"{self.path}:{self.line}" if self.line else self.path
+        key = f" {self.key}:" if self.key else ""
+        got = f", got {self.got}" if self.got else ""
+        return f"{where}:{key} expected {self.expected}{got}"
+
+
+class ConfigErrors(SiderodError):
+    """Every problem found in one load; nothing from that load is used.
+
+    Attributes:
+        errors: the individual ConfigError records, in file and line order.
+    """
+
+    def __init__(self, errors: list[ConfigError]) -> None:
+        self.errors = list(errors)
+        count = len(self.errors)
+        head = f"{count} problem{'s' if count != 1 else ''} in the configuration"
+        super().__init__(head + ":\n" + "\n".join(f"  {e}" for e in self.errors))
+
+
+class ServiceNotRunning(SiderodError):
+    """No siderod service answers on the control socket."""
+
+
+class ControlError(SiderodError):
+    """The service answered a control request with an error."""
+
+
+class InternalError(SiderodError):
+    """A broken invariant: this is a bug in siderod."""
+
+    def __init__(self, what: str) -> None:
+        super().__init__(f"{what} -- this is a bug in siderod; please report it with the log")

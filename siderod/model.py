@@ -1,0 +1,316 @@
+"""Plain records shared by the planner, the service, the view and the command line.
+
+Every record is a frozen dataclass with units in its field names. Enum values are the stable
+spellings used in configuration files and in ``--json`` output.
+"""
+
+from __future__ import annotations
+
+import enum
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from datetime import datetime
+
+__all__ = [
+    "EventKind",
+    "Frame",
+    "MountKind",
+    "Urgency",
+    "Site",
+    "Target",
+    "EventSettings",
+    "Mount",
+    "AlertRules",
+    "NotifySettings",
+    "ViewSettings",
+    "TimeSettings",
+    "Config",
+    "Event",
+    "PlannedAlert",
+    "Delivery",
+    "ClockHealth",
+    "ChannelHealth",
+    "ServiceSnapshot",
+    "TARGET_EVENT_KINDS",
+    "SKY_EVENT_KINDS",
+]
+
+
+class EventKind(enum.Enum):
+    """What happens at an event. ``.value`` is the stable spelling in files and JSON."""
+
+    CULMINATION = "culmination"  # upper transit, hour angle 0
+    LOWER_CULMINATION = "lower-culmination"  # hour angle 12 h
+    RISE = "rise"  # climbs through the target's lowest usable altitude
+    SET = "set"  # sinks through it
+    ALTITUDE_UP = "altitude-up"  # climbs through an extra configured altitude
+    ALTITUDE_DOWN = "altitude-down"  # sinks through it
+    HOUR_ANGLE = "hour-angle"  # reaches a configured hour angle
+    FLIP_DUE = "flip-due"  # German equatorial mount: time to flip
+    TRACKING_LIMIT = "tracking-limit"  # German equatorial mount: limit reached
+    SUNSET = "sunset"
+    SUNRISE = "sunrise"
+    CIVIL_DUSK = "civil-dusk"  # Sun sinks through -6 deg: civil twilight ends
+    NAUTICAL_DUSK = "nautical-dusk"  # -12 deg going down
+    ASTRONOMICAL_DUSK = "astronomical-dusk"  # -18 deg going down: astronomical night begins
+    ASTRONOMICAL_DAWN = "astronomical-dawn"  # -18 deg going up: astronomical night ends
+    NAUTICAL_DAWN = "nautical-dawn"
+    CIVIL_DAWN = "civil-dawn"
+    MOONRISE = "moonrise"
+    MOONSET = "moonset"
+
+
+TARGET_EVENT_KINDS = frozenset(
+    {
+        EventKind.CULMINATION,
+        EventKind.LOWER_CULMINATION,
+        EventKind.RISE,
+        EventKind.SET,
+        EventKind.ALTITUDE_UP,
+        EventKind.ALTITUDE_DOWN,
+        EventKind.HOUR_ANGLE,
+        EventKind.FLIP_DUE,
+        EventKind.TRACKING_LIMIT,
+    }
+)
+SKY_EVENT_KINDS = frozenset(set(EventKind) - TARGET_EVENT_KINDS)
+
+
+class Frame(enum.Enum):
+    """The coordinate system a target was given in."""
+
+    ICRS = "icrs"  # RA/Dec, ICRS ~ J2000 mean equator and equinox
+    GALACTIC = "galactic"  # l/b, IAU 1958 system as realised in ICRS
+    ECLIPTIC = "ecliptic"  # lon/lat, mean ecliptic and equinox of J2000
+    ECLIPTIC_OF_DATE = "ecliptic-of-date"  # lon/lat, mean ecliptic and equinox of date
+    HADEC = "hadec"  # a fixed hour angle and declination (a parked transit instrument)
+
+
+class MountKind(enum.Enum):
+    GERMAN_EQUATORIAL = "german-equatorial"
+    FORK = "fork"
+    ALT_AZ = "alt-az"
+    NONE = "none"
+
+
+class Urgency(enum.Enum):
+    LOW = "low"
+    NORMAL = "normal"
+    CRITICAL = "critical"
+
+
+@dataclass(frozen=True, slots=True)
+class Site:
+    """Where the observer is.
+
+    ``longitude_deg`` is east positive (west of Greenwich is negative).
+    ``horizon`` is a tuple of (azimuth_deg, lowest_usable_altitude_deg) points, sorted by azimuth,
+    interpolated linearly and wrapping through azimuth 0; empty means a flat horizon at 0 deg.
+    """
+
+    name: str
+    latitude_deg: float
+    longitude_deg: float
+    elevation_m: float = 0.0
+    timezone: str = "UTC"
+    pressure_hpa: float | None = None  # None: standard atmosphere for the elevation
+    temperature_c: float = 10.0
+    horizon: tuple[tuple[float, float], ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class Target:
+    """One watched target, as the user gave it, plus its ICRS place when it has one.
+
+    ``ra_deg``/``dec_deg`` are ICRS at ``epoch_jd_tt`` (computed at load time for galactic and
+    J2000 ecliptic input; for ecliptic-of-date they are filled per window by the agenda).
+    For ``Frame.HADEC`` targets ``ra_deg`` is None and ``ha_hours``/``dec_deg`` hold the pointing.
+    """
+
+    name: str
+    frame: Frame
+    lon_deg: float  # the first coordinate as given: RA (deg), l, ecliptic lon, or HA (deg)
+    lat_deg: float  # the second: Dec, b, ecliptic lat, or Dec
+    ra_deg: float | None
+    dec_deg: float
+    ha_hours: float | None = None
+    pm_ra_cosdec_mas_per_year: float = 0.0
+    pm_dec_mas_per_year: float = 0.0
+    parallax_mas: float = 0.0
+    radial_velocity_km_s: float = 0.0
+    epoch_jd_tt: float = 2451545.0
+    min_altitude_deg: float | None = None  # None: the global [events] min_altitude
+    lead_minutes: Mapping[EventKind, tuple[float, ...]] | None = None  # per-target alert override
+    alerts_enabled: bool = True
+    source: str = ""  # "file:line" where the target was defined, for messages
+    tags: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, slots=True)
+class EventSettings:
+    """Which events the agenda computes (``[events]``)."""
+
+    min_altitude_deg: float = 0.0  # global lowest usable altitude
+    altitudes_deg: tuple[float, ...] = ()  # extra altitude thresholds
+    hour_angles_hours: tuple[float, ...] = ()  # hour-angle marks
+    refraction: bool = True
+    window_hours: float = 24.0
+
+
+@dataclass(frozen=True, slots=True)
+class Mount:
+    """The telescope mount (``[mount]``). Flip and limit are minutes of time past the meridian."""
+
+    kind: MountKind = MountKind.NONE
+    flip_after_minutes: float = 0.0
+    limit_after_minutes: float = 15.0
+
+
+@dataclass(frozen=True, slots=True)
+class AlertRules:
+    """When to alert (``[alerts]``).
+
+    ``lead_minutes`` maps an event kind to the lead times (minutes before the event; 0 = at it)
+    at which to alert. Kinds not in the map do not alert.
+    """
+
+    lead_minutes: Mapping[EventKind, tuple[float, ...]] = field(default_factory=dict)
+    urgency: Mapping[EventKind, Urgency] = field(default_factory=dict)
+    hold_while_sun_above_deg: float | None = None
+    grace_minutes: float = 10.0  # deliver late within this; beyond it the alert is "missed"
+    horizon_hours: float = 36.0  # how far ahead the service plans
+    replan_minutes: float = 60.0
+
+
+@dataclass(frozen=True, slots=True)
+class NotifySettings:
+    """Where alerts go (``[notify]``). The log channel is always on."""
+
+    desktop: bool = True
+    command: tuple[str, ...] = ()  # argv with {placeholders}; empty: no command hook
+    command_timeout_seconds: float = 10.0
+    send_timeout_seconds: float = 5.0
+
+
+@dataclass(frozen=True, slots=True)
+class ViewSettings:
+    refresh_hz: float = 1.0
+
+
+@dataclass(frozen=True, slots=True)
+class TimeSettings:
+    """``[time]``: DUT1 = UT1 - UTC and where it came from."""
+
+    dut1_seconds: float = 0.0
+    dut1_source: str = "default (0 s)"  # "config", "iers:<file>", "default (0 s)"
+    iers_path: str | None = None  # set when dut1 = "iers": the finals file found
+
+
+@dataclass(frozen=True, slots=True)
+class Config:
+    """A whole, validated configuration. Loaded all at once or not at all."""
+
+    path: str
+    site: Site
+    targets: tuple[Target, ...]
+    target_files: tuple[str, ...] = ()
+    time: TimeSettings = field(default_factory=TimeSettings)
+    events: EventSettings = field(default_factory=EventSettings)
+    mount: Mount = field(default_factory=Mount)
+    alerts: AlertRules = field(default_factory=AlertRules)
+    notify: NotifySettings = field(default_factory=NotifySettings)
+    view: ViewSettings = field(default_factory=ViewSettings)
+    is_demo: bool = False
+
+
+@dataclass(frozen=True, slots=True)
+class Event:
+    """Something that happens at one instant: a target's culmination, the Sun at -18 deg...
+
+    ``target`` is None for Sun, Moon and twilight events. ``threshold_deg`` is the altitude
+    crossed (rise/set/altitude/twilight events); ``mark_hours`` is the hour angle reached
+    (hour-angle, flip-due and tracking-limit events); ``usable`` says whether a culmination is
+    above the target's lowest usable altitude.
+    """
+
+    time_utc: datetime
+    kind: EventKind
+    target: str | None
+    altitude_deg: float
+    azimuth_deg: float
+    hour_angle_hours: float | None = None
+    threshold_deg: float | None = None
+    mark_hours: float | None = None
+    usable: bool | None = None
+    moon_illuminated_fraction: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class PlannedAlert:
+    """One alert the service intends to give.
+
+    ``key`` is stable across restarts and re-plans: target, kind, event time (to the second)
+    and lead. The ledger and the scheduler's job id both use it.
+    """
+
+    key: str
+    event: Event
+    lead_minutes: float
+    due_utc: datetime
+    urgency: Urgency
+    title: str
+    body: str
+
+
+@dataclass(frozen=True, slots=True)
+class Delivery:
+    """The outcome of giving one alert on one channel."""
+
+    key: str
+    channel: str
+    delivered_utc: datetime
+    late_seconds: float
+    ok: bool
+    error: str = ""
+    title: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class ClockHealth:
+    """What the kernel says about time synchronisation (Linux adjtimex), or 'unknown'."""
+
+    state: str  # "synchronised", "unsynchronised", "unknown"
+    estimated_error_seconds: float | None = None
+    max_error_seconds: float | None = None
+    detail: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class ChannelHealth:
+    name: str
+    healthy: bool
+    last_error: str = ""
+    last_ok_utc: datetime | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class ServiceSnapshot:
+    """Everything ``siderod status`` and the live view show about the running service.
+
+    Built fresh by the service each time it is asked; never mutated afterwards.
+    """
+
+    taken_utc: datetime
+    started_utc: datetime
+    config_path: str
+    site: Site
+    dut1_seconds: float
+    dut1_source: str
+    clock_health: ClockHealth
+    next_alerts: tuple[PlannedAlert, ...] = ()
+    recent_deliveries: tuple[Delivery, ...] = ()
+    channels: tuple[ChannelHealth, ...] = ()
+    muted: Mapping[str, datetime | None] = field(default_factory=dict)  # target -> until (None: until unmuted)
+    config_error: str = ""  # the last failed reload, if any
+    missed_count: int = 0
+    planned_count: int = 0
