@@ -1,0 +1,107 @@
+"""The ``siderod`` command: argument parsing, dispatch, exit codes and top-level error printing.
+
+Each verb lives in its own module with ``register(subparsers)`` and ``run(args) -> int``.
+Verb modules import their heavy dependencies inside ``run``, so a quick verb stays quick.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import logging
+import sys
+from collections.abc import Sequence
+
+from siderod import __version__
+from siderod.errors import ConfigErrors, ServiceNotRunning, SiderodError
+
+__all__ = ["main", "build_parser", "EXIT_OK", "EXIT_BAD_INPUT", "EXIT_USAGE", "EXIT_NO_SERVICE", "EXIT_FAILURE"]
+
+EXIT_OK = 0
+EXIT_BAD_INPUT = 1  # a configuration or input problem the user can fix
+EXIT_USAGE = 2  # argparse's own code for a malformed command line
+EXIT_NO_SERVICE = 3  # a control verb found no running service
+EXIT_FAILURE = 4  # anything else went wrong at run time
+
+# In the order `siderod --help` lists them: the everyday verbs first.
+_VERB_MODULES = (
+    "siderod.cli.now",
+    "siderod.cli.agenda",
+    "siderod.cli.watch",
+    "siderod.cli.run",
+    "siderod.cli.control",
+    "siderod.cli.check",
+    "siderod.cli.unit",
+)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run one ``siderod`` command line and return its exit code."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not hasattr(args, "func"):
+        parser.print_help(sys.stderr)
+        return EXIT_USAGE
+    _configure_logging(getattr(args, "log_level", "warning"))
+    try:
+        return int(args.func(args) or 0)
+    except ConfigErrors as exc:
+        print(f"siderod: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except ServiceNotRunning as exc:
+        print(f"siderod: {exc}", file=sys.stderr)
+        return EXIT_NO_SERVICE
+    except SiderodError as exc:
+        print(f"siderod: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        return 130
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The whole argument tree: common options on every verb, then each verb's own."""
+    parser = argparse.ArgumentParser(
+        prog="siderod",
+        description="Sidereal clock and alert daemon: LST, culminations, altitude crossings, meridian flips.",
+    )
+    parser.add_argument("--version", action="version", version=f"siderod {__version__}")
+    subparsers = parser.add_subparsers(title="commands", metavar="COMMAND")
+    for name in _VERB_MODULES:
+        try:  # DEVTEMP: verbs land one by one while the tree is built; removed before release
+            module = importlib.import_module(name)
+        except ModuleNotFoundError as exc:
+            if exc.name != name:
+                raise
+            continue
+        module.register(subparsers)
+    for verb_parser in subparsers.choices.values():
+        _add_common_options(verb_parser)
+    return parser
+
+
+def _add_common_options(parser: argparse.ArgumentParser) -> None:
+    # Every verb takes these; a verb that already defines one keeps its own.
+    known = parser._option_string_actions  # argparse offers no public lookup
+    if "--config" not in known:
+        parser.add_argument(
+            "--config",
+            metavar="FILE",
+            help="configuration file (default: $SIDEROD_CONFIG, the user config directory, then the demo)",
+        )
+    if "--log-level" not in known:
+        parser.add_argument(
+            "--log-level",
+            default="warning",
+            choices=["debug", "info", "warning", "error"],
+            help="how much to log on stderr (default: warning; `run` logs at info)",
+        )
+
+
+def _configure_logging(level_name: str) -> None:
+    # One line per event on stderr; journald keeps them under systemd. The live view replaces
+    # this handler with one that prints above the board (see siderod.view.live).
+    logging.basicConfig(
+        level=getattr(logging, level_name.upper()),
+        format="%(asctime)s %(levelname)s %(name)s: %(message)s",
+        stream=sys.stderr,
+    )
