@@ -11,7 +11,27 @@ __all__ = [
     "ServiceNotRunning",
     "ControlError",
     "InternalError",
+    "AngleParseError",
+    "LeapTableExpired",
+    "NaiveDatetimeError",
 ]
+
+# The astronomy core's own errors live beside the code that raises them, because siderod.astro
+# depends on nothing else in the package. They derive from ValueError and are re-exported here,
+# loaded on first use so that importing this module never pulls in numpy.
+_ASTRO_ERRORS = {
+    "AngleParseError": "siderod.astro.angles",
+    "LeapTableExpired": "siderod.astro.leapseconds",
+    "NaiveDatetimeError": "siderod.astro.timescales",
+}
+
+
+def __getattr__(name: str):
+    if name in _ASTRO_ERRORS:
+        import importlib
+
+        return getattr(importlib.import_module(_ASTRO_ERRORS[name]), name)
+    raise AttributeError(f"module 'siderod.errors' has no attribute {name!r}")
 
 
 class SiderodError(Exception):

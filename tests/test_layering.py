@@ -68,3 +68,10 @@ def test_runtime_never_imports_reference_libraries(path):
 def test_package_init_imports_nothing_heavy():
     tree = ast.parse((PACKAGE / "__init__.py").read_text())
     assert _imports(tree) <= {"__future__"}
+
+
+def test_astro_exports_resolve_to_their_modules():
+    import siderod.astro as astro
+
+    for name in astro.__all__:
+        assert getattr(astro, name) is not None, name

@@ -71,8 +71,8 @@ class LeapTable:
     _arrays: tuple[np.ndarray, ...] = field(init=False, repr=False)
 
     def __post_init__(self) -> None:
-        arrays = tuple(np.asarray(a, dtype=np.float64) for a in
-                       (self.start_mjd_utc, self.base_seconds, self.drift_ref_mjd, self.drift_seconds_per_day))
+        columns = (self.start_mjd_utc, self.base_seconds, self.drift_ref_mjd, self.drift_seconds_per_day)
+        arrays = tuple(np.asarray(a, dtype=np.float64) for a in columns)
         n = arrays[0].size
         if n == 0 or any(a.shape != (n,) for a in arrays):
             raise ValueError("LeapTable needs four sequences of the same non-zero length")

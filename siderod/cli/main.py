@@ -54,6 +54,17 @@ def main(argv: Sequence[str] | None = None) -> int:
     except SiderodError as exc:
         print(f"siderod: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    except ValueError as exc:
+        # The astronomy core reports bad angles, naive datetimes and the like as ValueError
+        # subclasses whose message already names the bad text and the accepted forms.
+        if type(exc).__module__.startswith("siderod."):
+            print(f"siderod: {exc}", file=sys.stderr)
+            return EXIT_BAD_INPUT
+        raise
+    except BrokenPipeError:
+        # Output piped into `head` and the like: stop quietly, as other command-line tools do.
+        _silence_stdout()
+        return EXIT_OK
     except KeyboardInterrupt:
         return 130
 
@@ -95,6 +106,13 @@ def _add_common_options(parser: argparse.ArgumentParser) -> None:
             choices=["debug", "info", "warning", "error"],
             help="how much to log on stderr (default: warning; `run` logs at info)",
         )
+
+
+def _silence_stdout() -> None:
+    import os
+
+    devnull = os.open(os.devnull, os.O_WRONLY)
+    os.dup2(devnull, sys.stdout.fileno())
 
 
 def _configure_logging(level_name: str) -> None:
