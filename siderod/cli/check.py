@@ -1,0 +1,182 @@
+"""`siderod check [--doctor]`: validate the configuration and print a summary, or every error."""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from collections.abc import Mapping
+from typing import Any
+
+__all__ = ["register", "run", "format_summary", "format_doctor"]
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    """Add ``check`` to the command line."""
+    parser = subparsers.add_parser(
+        "check",
+        help="validate the configuration and its target files; print a summary or every error",
+        description="Read the configuration and every target file it names. Print a summary, or every "
+        "problem found (file:line: key: expected ..., got ...) and exit 1.",
+    )
+    parser.add_argument("--doctor", action="store_true",
+                        help="also report versions, where the configuration was found, leap-second table "
+                        "dates, the control socket and the desktop bus")
+    parser.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """0 when the configuration is valid, 1 when it is not (every error printed)."""
+    from siderod.config import find_config, load_config
+    from siderod.errors import ConfigErrors
+
+    env = os.environ
+    explicit = getattr(args, "config", None)
+    how = "?"
+    path: Any = explicit
+    try:
+        path, how = find_config(explicit, env)
+        config = load_config(explicit, env)
+    except ConfigErrors as exc:
+        config = None
+        count = len(exc.errors)
+        print(f"siderod check: {count} problem{'s' if count != 1 else ''} found; nothing was loaded:")
+        for error in exc.errors:
+            print(f"  {error}")
+    else:
+        print(format_summary(config, how))
+    if getattr(args, "doctor", False):
+        print()
+        print(format_doctor(config, str(path) if path else "(none)", how, env))
+    return 0 if config is not None else 1
+
+
+def format_summary(config: Any, how_found: str) -> str:
+    """A few lines describing a valid configuration: site, targets per frame, alerts, cautions."""
+    from siderod.astro.angles import format_dms
+    from siderod.model import EventKind, MountKind, Urgency
+
+    site = config.site
+    lines = [f"configuration: {config.path} ({how_found})" + ("  [demo]" if config.is_demo else "")]
+    lat = format_dms(abs(site.latitude_deg)) + (" N" if site.latitude_deg >= 0 else " S")
+    lon = format_dms(abs(site.longitude_deg)) + (" E" if site.longitude_deg >= 0 else " W")
+    pressure = "standard for elevation" if site.pressure_hpa is None else f"{site.pressure_hpa:g} hPa"
+    lines.append(f"site: {site.name}, {lat} {lon}, {site.elevation_m:g} m, {site.timezone}")
+    lines.append(f"  air {pressure}, {site.temperature_c:g} °C; horizon profile: "
+                 + (f"{len(site.horizon)} points" if site.horizon else "flat (0°)"))
+    lines.append(f"time: DUT1 {config.time.dut1_seconds:+.4f} s ({config.time.dut1_source})")
+    per_frame: dict[str, int] = {}
+    for target in config.targets:
+        per_frame[target.frame.value] = per_frame.get(target.frame.value, 0) + 1
+    frames = ", ".join(f"{count} {frame}" for frame, count in per_frame.items()) or "none"
+    lines.append(f"targets: {len(config.targets)} ({frames}) from {len(config.target_files)} file(s)")
+    silent = [t.name for t in config.targets if not t.alerts_enabled]
+    if silent:
+        lines.append(f"  no alerts for: {', '.join(silent)}")
+    own = [t.name for t in config.targets if t.lead_minutes is not None and t.alerts_enabled]
+    if own:
+        lines.append(f"  own alert lead times: {', '.join(own)}")
+    events = config.events
+    marks = _list(events.hour_angles_hours, " h")
+    lines.append(f"events: lowest usable altitude {events.min_altitude_deg:g}°, extra altitudes "
+                 f"{_list(events.altitudes_deg, '°')}, hour-angle marks {marks}, "
+                 f"refraction {'on' if events.refraction else 'off'}, window {events.window_hours:g} h")
+    mount = config.mount
+    mount_text = mount.kind.value
+    if mount.kind is MountKind.GERMAN_EQUATORIAL:
+        mount_text += (f", flip {mount.flip_after_minutes:g} min and limit {mount.limit_after_minutes:g} min "
+                       "past the meridian")
+    lines.append(f"mount: {mount_text}")
+    alerts = config.alerts
+    if alerts.lead_minutes:
+        lines.append("alerts (minutes before the event; 0 = at it):")
+        for kind, leads in alerts.lead_minutes.items():
+            urgency = alerts.urgency.get(kind, Urgency.NORMAL).value
+            lines.append(f"  {kind.value}: {', '.join(f'{m:g}' for m in leads)} ({urgency})")
+    else:
+        lines.append("alerts: none configured ([alerts.lead] is empty)")
+    extras = [f"grace {alerts.grace_minutes:g} min", f"plan {alerts.horizon_hours:g} h ahead",
+              f"re-plan every {alerts.replan_minutes:g} min"]
+    if alerts.hold_while_sun_above_deg is not None:
+        extras.append(f"held while the Sun is above {alerts.hold_while_sun_above_deg:g}°")
+    lines.append("  " + ", ".join(extras))
+    channels = ["log"] + (["desktop"] if config.notify.desktop else [])
+    if config.notify.command:
+        timeout = config.notify.command_timeout_seconds
+        channels.append(f"command {config.notify.command[0]!r} (timeout {timeout:g} s)")
+    lines.append(f"notify: {', '.join(channels)}")
+    if mount.kind is MountKind.GERMAN_EQUATORIAL and EventKind.FLIP_DUE not in alerts.lead_minutes:
+        lines.append("caution: a German equatorial mount with no flip-due alert: a missed flip can drive "
+                     "the mount into its pier. Add flip-due = [10, 0] under [alerts.lead].")
+    if mount.kind is MountKind.GERMAN_EQUATORIAL:
+        lines.append("caution: flip and limit times come from this file; the mount's own limits always win.")
+    lines.append("OK")
+    return "\n".join(lines)
+
+
+def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]) -> str:
+    """Environment report: versions, configuration source, leap table, socket and bus."""
+    import platform
+    from importlib import metadata
+
+    from siderod import __version__
+    from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
+    from siderod.config import find_iers_finals
+    from siderod.paths import resolve_paths
+
+    lines = ["doctor:"]
+    versions = [f"siderod {__version__}", f"python {platform.python_version()}"]
+    for dist in ("numpy", "rich", "apscheduler", "desktop-notifier"):
+        try:
+            versions.append(f"{dist} {metadata.version(dist)}")
+        except metadata.PackageNotFoundError:
+            versions.append(f"{dist} (not installed)")
+    lines.append("  versions: " + ", ".join(versions))
+    lines.append(f"  configuration: {path} ({how_found})")
+    table = BUILTIN_LEAP_TABLE
+    lines.append(f"  leap seconds: built-in table known good {table.known_good_from_utc} .. "
+                 f"{table.known_good_until_utc} ({table.source})")
+    finals = find_iers_finals()
+    lines.append(f"  IERS finals2000A.all (astropy-iers-data): {finals or 'not installed'}")
+    if config is not None:
+        lines.append(f"  DUT1 in use: {config.time.dut1_seconds:+.4f} s ({config.time.dut1_source})")
+    paths = resolve_paths(env)
+    runtime_note = " (XDG_RUNTIME_DIR unset: using the state directory)" if paths.runtime_is_fallback else ""
+    lines.append(f"  control socket: {paths.socket_path}{runtime_note}")
+    lines.append(f"  service: {_service_state(paths.socket_path)}")
+    lines.append(f"  ledger: {paths.ledger_path}")
+    bus = env.get("DBUS_SESSION_BUS_ADDRESS")
+    if bus:
+        lines.append(f"  desktop bus: DBUS_SESSION_BUS_ADDRESS={bus}")
+    else:
+        runtime = env.get("XDG_RUNTIME_DIR")
+        candidate = os.path.join(runtime, "bus") if runtime else None
+        exists = candidate is not None and os.path.exists(candidate)
+        hint = f"; {candidate} exists: export DBUS_SESSION_BUS_ADDRESS=unix:path={candidate}" * exists
+        lines.append(f"  desktop bus: DBUS_SESSION_BUS_ADDRESS is not set (desktop alerts will fail){hint}")
+    return "\n".join(lines)
+
+
+def _service_state(socket_path: Any) -> str:
+    try:
+        from siderod.service.control import request_once
+    except ImportError:
+        return "unknown (this build has no control client)"
+    from siderod.errors import SiderodError
+
+    try:
+        result = request_once(socket_path, {"op": "status"}, timeout_seconds=1.0)
+    except SiderodError as exc:
+        return f"not answering ({exc})"
+    except OSError as exc:
+        return f"unknown ({exc})"
+    started = result.get("started_utc", "?") if isinstance(result, dict) else "?"
+    return f"running (started {started})"
+
+
+def _list(values: tuple[float, ...], unit: str) -> str:
+    return ", ".join(f"{v:g}{unit}" for v in values) or "none"
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit("run this as `siderod check`")

@@ -1,0 +1,185 @@
+"""`siderod now`: sidereal time and where every target is, once, as a table or as JSON."""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+from typing import Any
+
+__all__ = ["JSON_FIELDS", "SUN_CAUTION_DEG", "register", "run", "sky_to_json"]
+
+#: The top-level fields of ``siderod now --json`` (stable; documented in the README).
+JSON_FIELDS = (
+    "utc", "jd_utc", "dut1_seconds", "dut1_source", "lmst_hours", "last_hours",
+    "leap_table_known_good_until", "site", "sun", "moon", "twilight", "targets",
+)
+#: Targets closer than this to the Sun, while the Sun is up, are flagged in the table: never point
+#: unfiltered optics at or near the Sun (common practice; a margin, not a safe limit).
+SUN_CAUTION_DEG = 20.0
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    """Add ``now`` to the command line."""
+    parser = subparsers.add_parser(
+        "now",
+        help="show sidereal time and where every target is, now or at --at",
+        description="Print UTC, site time, Julian date, DUT1, LMST and LAST, and a table of targets with "
+        "hour angle, declination, altitude, azimuth, airmass and whether each is rising or setting.",
+    )
+    parser.add_argument("--at", metavar="ISO-8601",
+                        help='the instant to show, with "Z" or an offset, e.g. 2026-12-14T21:00:00Z '
+                        "(default: now)")
+    parser.add_argument("--json", action="store_true", help="print one JSON object (fields in the README)")
+    parser.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Compute and print; 0 on success, 1 for a bad --at or configuration."""
+    import os
+    import time
+
+    from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
+    from siderod.astro.timescales import parse_iso_datetime, unix_from_datetime
+    from siderod.config import load_config
+    from siderod.positions import compute_sky
+
+    if args.at:
+        try:
+            unix_seconds = unix_from_datetime(parse_iso_datetime(args.at))
+        except ValueError as exc:
+            print(f"siderod now: --at: {exc}", file=sys.stderr)
+            return 1
+    else:
+        # The CLI edge reads the wall clock once, here. (siderod.clock.SystemClock would pull in
+        # asyncio, which `now` must not pay for at start-up.)
+        unix_seconds = time.time()
+
+    config = load_config(getattr(args, "config", None), os.environ, at_unix=unix_seconds)
+    if config.is_demo:
+        print("siderod: no configuration given, so the bundled demo is used (Corrie Hill Observatory, an "
+              "invented site); pass --config FILE or write ~/.config/siderod/config.toml",
+              file=sys.stderr)
+    until = BUILTIN_LEAP_TABLE.known_good_until_utc
+    if not bool(BUILTIN_LEAP_TABLE.is_known_good(unix_seconds)):
+        print(f"siderod: warning: the built-in leap-second table is known good only until {until}; "
+              "UTC-based times after that may be off by a whole second if a leap second was added "
+              "(update siderod)", file=sys.stderr)
+    sky = compute_sky(config, unix_seconds)
+    data = sky_to_json(sky, config, leap_until=until.isoformat())
+    if args.json:
+        import json
+
+        try:
+            sys.stdout.write(json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n")
+            sys.stdout.flush()
+        except BrokenPipeError:  # e.g. piped into `head`; not an error of ours
+            sys.stdout = open(os.devnull, "w")  # noqa: SIM115 -- keeps the interpreter's exit flush quiet
+        return 0
+    _print_table(sky, config, data)
+    return 0
+
+
+def sky_to_json(sky: Any, config: Any, *, leap_until: str) -> dict[str, Any]:
+    """The ``--json`` object for one :class:`~siderod.positions.SkyState` (fields in the README)."""
+    from siderod.astro.timescales import format_iso_utc
+
+    site = config.site
+    targets = []
+    for i, name in enumerate(sky.names):
+        airmass = float(sky.airmass[i])
+        targets.append({
+            "name": name,
+            "frame": sky.frames[i],
+            "ra_hours": float(sky.ra_hours[i]),
+            "dec_deg": float(sky.dec_deg[i]),
+            "hour_angle_hours": float(sky.ha_hours[i]),
+            "altitude_deg": float(sky.alt_deg[i]),
+            "azimuth_deg": float(sky.az_deg[i]),
+            "airmass": None if math.isnan(airmass) else airmass,
+            "rising": bool(sky.rising[i]),
+            "min_altitude_deg": float(sky.min_alt_deg[i]),
+            "sun_separation_deg": float(sky.sun_separation_deg[i]),
+        })
+    return {
+        "utc": format_iso_utc(sky.unix_seconds),
+        "jd_utc": sky.jd_utc,
+        "dut1_seconds": sky.dut1_seconds,
+        "dut1_source": config.time.dut1_source,
+        "lmst_hours": sky.lmst_hours,
+        "last_hours": sky.last_hours,
+        "leap_table_known_good_until": leap_until,
+        "site": {
+            "name": site.name,
+            "latitude_deg": site.latitude_deg,
+            "longitude_deg": site.longitude_deg,
+            "elevation_m": site.elevation_m,
+            "timezone": site.timezone,
+        },
+        "sun": {"altitude_deg": sky.sun_alt_deg, "azimuth_deg": sky.sun_az_deg},
+        "moon": {"altitude_deg": sky.moon_alt_deg, "azimuth_deg": sky.moon_az_deg,
+                 "illuminated_fraction": sky.moon_illuminated_fraction},
+        "twilight": sky.twilight,
+        "targets": targets,
+    }
+
+
+# ---------------------------------------------------------------------------------------------
+# helpers
+
+
+def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
+    import os
+    from datetime import datetime
+    from zoneinfo import ZoneInfo
+
+    from rich import box
+    from rich.console import Console
+    from rich.table import Table
+
+    from siderod.astro.angles import format_dms, format_hms
+
+    site = config.site
+    local = datetime.fromtimestamp(sky.unix_seconds, ZoneInfo(site.timezone))
+    lat = format_dms(abs(site.latitude_deg)) + (" N" if site.latitude_deg >= 0 else " S")
+    lon = format_dms(abs(site.longitude_deg)) + (" E" if site.longitude_deg >= 0 else " W")
+    source = data["dut1_source"]
+    if source.startswith("iers:"):  # the full path is in --json and `check --doctor`
+        source = "IERS " + os.path.basename(source[5:].split(" (")[0]) + source[5:].partition(".all")[2]
+    console = Console(highlight=False)
+    console.print(f"[bold]{site.name}[/]  {lat}  {lon}  {site.elevation_m:g} m")
+    console.print(f"UTC    {data['utc']}     JD {sky.jd_utc:.6f}")
+    console.print(f"Local  {local:%Y-%m-%d %H:%M:%S %Z} ({site.timezone})")
+    console.print(f"DUT1   {sky.dut1_seconds:+.4f} s [dim]({source})[/]")
+    console.print(f"[bold]LMST   {format_hms(sky.lmst_hours)}     LAST   {format_hms(sky.last_hours)}[/]")
+    console.print(f"Sun    {sky.sun_alt_deg:+.1f}° ({sky.twilight})     "
+                  f"Moon {sky.moon_alt_deg:+.1f}°, {sky.moon_illuminated_fraction:.0%} lit")
+
+    table = Table(box=box.SIMPLE_HEAD, padding=(0, 1), pad_edge=False)
+    table.add_column("Target", overflow="fold", min_width=14)
+    for heading in ("HA", "Dec", "Alt", "Az", "Airmass"):
+        table.add_column(heading, justify="right", no_wrap=True)
+    table.add_column("", overflow="fold")
+    sun_up = sky.sun_alt_deg > 0.0
+    for i, name in enumerate(sky.names):
+        alt = float(sky.alt_deg[i])
+        airmass = float(sky.airmass[i])
+        usable = alt >= float(sky.min_alt_deg[i])
+        if sky.frames[i] == "hadec":
+            note = "fixed"
+        else:
+            note = "rising" if sky.rising[i] else "setting"
+        if sun_up and float(sky.sun_separation_deg[i]) < SUN_CAUTION_DEG:
+            note += " [bold red]NEAR SUN[/]"
+        table.add_row(
+            name,
+            format_hms(float(sky.ha_hours[i]), decimals=0, sign=True),
+            format_dms(float(sky.dec_deg[i]), sign=True),
+            f"{alt:+.1f}°",
+            f"{float(sky.az_deg[i]):.1f}°",
+            "—" if math.isnan(airmass) else f"{airmass:.2f}",
+            note,
+            style=None if usable else "dim",
+        )
+    console.print(table)
+    console.print("[dim]dim rows: below the lowest usable altitude (horizon profile or min_altitude)[/]")

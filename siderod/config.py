@@ -1,0 +1,587 @@
+"""Find, read and check a siderod configuration file and its target files, all or nothing.
+
+Every problem in the configuration and in every target file it names is collected and raised
+together as :class:`~siderod.errors.ConfigErrors`; nothing is half-loaded. Angles go through
+:func:`siderod.astro.angles.parse_angle_deg`.
+"""
+
+from __future__ import annotations
+
+import os
+import string
+import time
+from collections.abc import Callable, Mapping
+from dataclasses import replace
+from pathlib import Path
+from typing import Any
+
+from siderod.errors import ConfigError, ConfigErrors
+from siderod.model import (
+    AlertRules,
+    Config,
+    EventKind,
+    EventSettings,
+    Mount,
+    MountKind,
+    NotifySettings,
+    Site,
+    Target,
+    TimeSettings,
+    Urgency,
+    ViewSettings,
+)
+from siderod.paths import resolve_paths
+from siderod.targets import (
+    MIN_ALTITUDE_RANGE_DEG,
+    collect_targets_csv,
+    collect_targets_toml,
+    parse_lead_minutes,
+)
+from siderod.tomlpos import (
+    Problems,
+    parse_angle_value,
+    read_angle,
+    read_bool,
+    read_choice,
+    read_number,
+    read_string,
+    read_table,
+    show_value,
+)
+
+__all__ = [
+    "DEFAULT_URGENCY",
+    "FOUND_BUNDLED_DEMO",
+    "FOUND_ENV",
+    "FOUND_OPTION",
+    "FOUND_USER",
+    "NOTIFY_PLACEHOLDERS",
+    "demo_config_path",
+    "dut1_at",
+    "find_config",
+    "find_iers_finals",
+    "load_config",
+    "parse_config",
+]
+
+#: How :func:`find_config` found the file (the second item it returns).
+FOUND_OPTION = "given with --config"
+FOUND_ENV = "from $SIDEROD_CONFIG"
+FOUND_USER = "the user configuration file"
+FOUND_BUNDLED_DEMO = "bundled demo: no --config, no $SIDEROD_CONFIG, no user configuration file"
+
+#: Placeholders a ``[notify] command`` may use.
+NOTIFY_PLACEHOLDERS = ("title", "body", "target", "kind", "time_utc", "time_local", "lead_minutes")
+
+#: Urgency of each event kind unless ``[alerts.urgency]`` says otherwise: a missed flip can drive
+#: a mount into its pier, so flip and limit alerts are critical.
+DEFAULT_URGENCY: Mapping[EventKind, Urgency] = {
+    kind: Urgency.CRITICAL if kind in (EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT) else Urgency.NORMAL
+    for kind in EventKind
+}
+
+#: |DUT1| is kept below 0.9 s by IERS leap-second policy.
+MAX_ABS_DUT1_SECONDS = 0.9
+
+_SECTIONS = ("site", "time", "targets", "events", "mount", "alerts", "notify", "view")
+_SITE_KEYS = ("name", "latitude", "longitude", "elevation", "timezone", "pressure", "temperature", "horizon")
+_TIME_KEYS = ("dut1", "iers_file")
+_TARGETS_KEYS = ("files",)
+_EVENTS_KEYS = ("min_altitude", "altitudes", "hour_angles", "refraction", "window_hours")
+_MOUNT_KEYS = ("kind", "flip_after", "limit_after")
+_ALERTS_KEYS = ("grace", "horizon_hours", "replan", "hold_while_sun_above", "lead", "urgency")
+_NOTIFY_KEYS = ("desktop", "command", "command_timeout")
+_VIEW_KEYS = ("refresh_hz",)
+_IERS_FINALS_NAME = "finals2000A.all"
+
+
+def find_config(explicit: str | None, env: Mapping[str, str]) -> tuple[Path, str]:
+    """Choose the configuration file to use.
+
+    Order: ``explicit`` (``--config``), ``$SIDEROD_CONFIG``, the user's
+    ``$XDG_CONFIG_HOME/siderod/config.toml``, then the bundled demo.
+
+    Args:
+        explicit: the ``--config`` value, or None.
+        env: the environment mapping to read.
+
+    Returns:
+        (path, how it was found: one of the ``FOUND_*`` texts).
+
+    Raises:
+        ConfigErrors: a file named by ``--config`` or ``$SIDEROD_CONFIG`` does not exist (a named
+            file never silently falls back to another).
+    """
+    if explicit:
+        expected = "an existing configuration file (given with --config)"
+        return _must_exist(Path(explicit), expected), FOUND_OPTION
+    if env.get("SIDEROD_CONFIG"):
+        named = Path(env["SIDEROD_CONFIG"])
+        return _must_exist(named, "an existing configuration file (named by $SIDEROD_CONFIG)"), FOUND_ENV
+    user_file = resolve_paths(env).user_config_file
+    if user_file.is_file():
+        return user_file, FOUND_USER
+    return demo_config_path(), FOUND_BUNDLED_DEMO
+
+
+def demo_config_path() -> Path:
+    """The bundled demo configuration (``siderod/demo/demo.toml``)."""
+    return Path(__file__).resolve().parent / "demo" / "demo.toml"
+
+
+def load_config(explicit: str | None = None, env: Mapping[str, str] | None = None, *,
+                at_unix: float | None = None) -> Config:
+    """Find, read and check the configuration and its target files.
+
+    Args:
+        explicit: a ``--config`` path, or None to search (see :func:`find_config`).
+        env: environment mapping; ``os.environ`` when None.
+        at_unix: the instant (POSIX seconds) at which to look up DUT1 when ``dut1 = "iers"``;
+            the current time when None.
+
+    Returns:
+        The whole, checked :class:`~siderod.model.Config` (``is_demo`` set for the bundled demo).
+
+    Raises:
+        ConfigErrors: every problem found, in file and line order.
+    """
+    env = os.environ if env is None else env
+    path, how = find_config(explicit, env)
+    text = _read_config_text(path)
+    config = parse_config(text, str(path), at_unix=at_unix)
+    if how == FOUND_BUNDLED_DEMO:
+        config = replace(config, is_demo=True)
+    return config
+
+
+def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None = None,
+                 at_unix: float | None = None) -> Config:
+    """Check a configuration text and the target files it names.
+
+    Args:
+        text: the configuration file's text.
+        path: its path; target files and ``iers_file`` are relative to its directory.
+        read_file: reads a target file's text given its path (raises OSError); plain UTF-8 file
+            reading when None. Tests pass a dict lookup.
+        at_unix: instant for the DUT1 look-up when ``dut1 = "iers"`` (now when None).
+
+    Returns:
+        The whole :class:`~siderod.model.Config`.
+
+    Raises:
+        ConfigErrors: every problem in the configuration and its target files.
+    """
+    read_file = read_file or _read_text
+    problems = Problems(path, text)
+    data = problems.parse_toml()
+    if data is None:
+        problems.raise_if_any()
+    assert data is not None
+    problems.unknown_keys(data, _SECTIONS, "")
+    base_dir = os.path.dirname(path)
+
+    if "site" not in data:
+        problems.add("site", "no [site] table", "a [site] table with name, latitude, longitude and timezone")
+    site = _site(problems, data)
+    time_settings = _time(problems, data, base_dir, at_unix)
+    events = _events(problems, data)
+    mount = _mount(problems, data)
+    alerts = _alerts(problems, data)
+    notify = _notify(problems, data)
+    view = _view(problems, data)
+    target_files, target_problems, targets = _targets(problems, data, base_dir, read_file)
+
+    errors = problems.sorted_errors()
+    for file_problems in target_problems:
+        errors.extend(file_problems.sorted_errors())
+    if errors:
+        raise ConfigErrors(errors)
+    assert site is not None and time_settings is not None
+    return Config(path=path, site=site, targets=targets, target_files=target_files, time=time_settings,
+                  events=events, mount=mount, alerts=alerts, notify=notify, view=view)
+
+
+def find_iers_finals() -> Path | None:
+    """The installed IERS ``finals2000A.all`` from the ``astropy_iers_data`` package, if any.
+
+    The package is located with :func:`importlib.util.find_spec`, without importing it (or
+    astropy).
+    """
+    import importlib.util
+
+    try:
+        spec = importlib.util.find_spec("astropy_iers_data")
+    except (ImportError, ValueError):
+        return None
+    if spec is None or not spec.submodule_search_locations:
+        return None
+    for location in spec.submodule_search_locations:
+        candidate = Path(location) / "data" / _IERS_FINALS_NAME
+        if candidate.is_file():
+            return candidate
+    return None
+
+
+def dut1_at(config: Config, unix_seconds: float) -> tuple[float, str]:
+    """DUT1 (seconds) and its source for one instant.
+
+    With ``dut1 = "iers"`` the IERS table is interpolated at ``unix_seconds``; otherwise the
+    configured (or default) value is returned unchanged.
+    """
+    settings = config.time
+    if settings.iers_path is None:
+        return settings.dut1_seconds, settings.dut1_source
+    value, source = _dut1_from_iers(Path(settings.iers_path), unix_seconds)
+    return value, source
+
+
+# ---------------------------------------------------------------------------------------------
+# sections
+
+
+def _site(problems: Problems, data: Mapping[str, Any]) -> Site | None:
+    table = read_table(problems, data, "site", "", _SITE_KEYS)
+    if not table:
+        return None
+    name = read_string(problems, table, "name", "site", what="the site's name in quotes")
+    lat = read_angle(problems, table, "latitude", "site", kind="lat", what="a latitude (north positive)")
+    lon = read_angle(problems, table, "longitude", "site", kind="lon",
+                     what="a longitude (east positive, west of Greenwich negative)")
+    if lon is not None and lon >= 180.0:
+        lon -= 360.0  # keep east-positive longitudes in [-180, 180)
+    elevation = read_number(problems, table, "elevation", "site", default=0.0, low=-500.0, high=9000.0,
+                            what="an elevation in metres above sea level")
+    timezone = _timezone(problems, table)
+    pressure = read_number(problems, table, "pressure", "site", default=None, low=300.0, high=1100.0,
+                           what="an air pressure in hPa")
+    temperature = read_number(problems, table, "temperature", "site", default=10.0, low=-60.0, high=60.0,
+                              what="an air temperature in degrees C")
+    horizon = _horizon(problems, table)
+    if None in (name, lat, lon, elevation, timezone, temperature, horizon):
+        return None
+    return Site(name=name, latitude_deg=lat, longitude_deg=lon, elevation_m=elevation, timezone=timezone,
+                pressure_hpa=pressure, temperature_c=temperature, horizon=horizon)
+
+
+def _timezone(problems: Problems, table: Mapping[str, Any]) -> str | None:
+    name = read_string(problems, table, "timezone", "site", default="UTC",
+                       what='an IANA time zone name like "Europe/London"')
+    if name is None:
+        return None
+    import zoneinfo
+
+    try:
+        zoneinfo.ZoneInfo(name)
+    except (zoneinfo.ZoneInfoNotFoundError, ValueError, OSError):
+        import difflib
+
+        zones = zoneinfo.available_timezones()
+        close = difflib.get_close_matches(name, sorted(zones), n=1, cutoff=0.6)
+        hint = f' -- did you mean "{close[0]}"?' if close else ""
+        problems.add("site.timezone", show_value(name),
+                     f'an IANA time zone name like "Europe/London" or "America/New_York"{hint}')
+        return None
+    return name
+
+
+def _horizon(problems: Problems, table: Mapping[str, Any]) -> tuple[tuple[float, float], ...] | None:
+    value = table.get("horizon", [])
+    expected = "a list of [azimuth, altitude] pairs in degrees, like [[0, 12], [90, 8], [180, 20]]"
+    if not isinstance(value, list):
+        problems.add("site.horizon", show_value(value), expected)
+        return None
+    points: list[tuple[float, float]] = []
+    ok = True
+    for index, pair in enumerate(value, start=1):
+        path = f"site.horizon[{index}]"
+        if not isinstance(pair, list) or len(pair) != 2:
+            problems.add(path, show_value(pair), "an [azimuth, altitude] pair, like [90, 8]")
+            ok = False
+            continue
+        az = parse_angle_value(problems, f"{path}[1]", pair[0], kind="angle", low=0.0, high=360.0,
+                               high_open=True, what="an azimuth (from north through east)")
+        alt = parse_angle_value(problems, f"{path}[2]", pair[1], kind="angle", low=-5.0, high=90.0,
+                                what="a lowest usable altitude")
+        if az is None or alt is None:
+            ok = False
+            continue
+        points.append((az, alt))
+    azimuths = sorted(p[0] for p in points)
+    for a, b in zip(azimuths, azimuths[1:], strict=False):
+        if a == b:
+            problems.add("site.horizon", f"azimuth {a:g} twice", "each azimuth at most once")
+            ok = False
+    return tuple(sorted(points)) if ok else None
+
+
+def _time(problems: Problems, data: Mapping[str, Any], base_dir: str,
+          at_unix: float | None) -> TimeSettings | None:
+    table = read_table(problems, data, "time", "", _TIME_KEYS)
+    value = table.get("dut1", 0.0)
+    iers_file = read_string(problems, table, "iers_file", "time", default=None,
+                            what="the path of an IERS finals2000A.all file in quotes")
+    if value == "iers":
+        return _iers_time(problems, base_dir, iers_file, at_unix)
+    if "iers_file" in table:
+        problems.add("time.iers_file", show_value(table["iers_file"]),
+                     'no iers_file unless dut1 = "iers" (it is only read then)')
+    if "dut1" not in table:
+        return TimeSettings()
+    dut1 = read_number(problems, table, "dut1", "time", low=-MAX_ABS_DUT1_SECONDS,
+                       high=MAX_ABS_DUT1_SECONDS, low_open=True, high_open=True,
+                       what='DUT1 = UT1 - UTC in seconds, or "iers" to read installed IERS tables,')
+    if dut1 is None:
+        return None
+    return TimeSettings(dut1_seconds=dut1, dut1_source="config")
+
+
+def _iers_time(problems: Problems, base_dir: str, iers_file: str | None,
+               at_unix: float | None) -> TimeSettings | None:
+    if iers_file is not None:
+        path = Path(base_dir, os.path.expanduser(iers_file))
+        if not path.is_file():
+            problems.add("time.iers_file", show_value(iers_file), "an existing IERS finals2000A.all file")
+            return None
+    else:
+        found = find_iers_finals()
+        if found is None:
+            return TimeSettings(dut1_seconds=0.0, dut1_source=(
+                'default (0 s): dut1 = "iers" but no IERS finals2000A.all was found '
+                "(install astropy-iers-data or set iers_file)"))
+        path = found
+    try:
+        value, source = _dut1_from_iers(path, time.time() if at_unix is None else at_unix)
+    except (OSError, ValueError) as exc:
+        problems.add("time.iers_file" if iers_file else "time.dut1", show_value(str(path)),
+                     f"a readable IERS finals2000A.all file ({exc})")
+        return None
+    return TimeSettings(dut1_seconds=value, dut1_source=source, iers_path=str(path))
+
+
+def _events(problems: Problems, data: Mapping[str, Any]) -> EventSettings:
+    table = read_table(problems, data, "events", "", _EVENTS_KEYS)
+    low, high = MIN_ALTITUDE_RANGE_DEG
+    min_alt = read_angle(problems, table, "min_altitude", "events", kind="angle", default=0.0, low=low,
+                         high=high, what="a lowest usable altitude")
+    altitudes = _angle_list(problems, table, "altitudes", kind="angle", low=low, high=high,
+                            what="an altitude", example="[30, 45]")
+    hour_angles_deg = _angle_list(problems, table, "hour_angles", kind="hour_angle", low=-12.0, high=12.0,
+                                  what="an hour angle (bare numbers are hours)",
+                                  example='["-3h", "+2h", 1.5]', scale=15.0, unit="hours")
+    refraction = read_bool(problems, table, "refraction", "events", default=True)
+    window = read_number(problems, table, "window_hours", "events", default=24.0, low=1.0, high=240.0,
+                         what="a number of hours")
+    return EventSettings(
+        min_altitude_deg=min_alt if min_alt is not None else 0.0,
+        altitudes_deg=tuple(sorted(set(altitudes))),
+        hour_angles_hours=tuple(sorted({round(h / 15.0, 12) for h in hour_angles_deg})),
+        refraction=refraction if refraction is not None else True,
+        window_hours=window if window is not None else 24.0,
+    )
+
+
+def _angle_list(problems: Problems, table: Mapping[str, Any], key: str, *, kind: str, low: float,
+                high: float, what: str, example: str, scale: float = 1.0,
+                unit: str = "degrees") -> list[float]:
+    path = f"events.{key}"
+    value = table.get(key, [])
+    if not isinstance(value, list):
+        problems.add(path, show_value(value), f"a list like {example}")
+        return []
+    result = []
+    for index, item in enumerate(value, start=1):
+        deg = parse_angle_value(problems, f"{path}[{index}]", item, kind=kind, low=low, high=high, what=what,
+                                scale=scale, unit=unit)
+        if deg is not None:
+            result.append(deg)
+    return result
+
+
+def _mount(problems: Problems, data: Mapping[str, Any]) -> Mount:
+    table = read_table(problems, data, "mount", "", _MOUNT_KEYS)
+    kind = read_choice(problems, table, "kind", "mount", [k.value for k in MountKind],
+                       default=MountKind.NONE, convert=MountKind)
+    flip = read_number(problems, table, "flip_after", "mount", default=0.0, low=-180.0, high=180.0,
+                       what="minutes of time past the meridian")
+    limit = read_number(problems, table, "limit_after", "mount", default=max(flip or 0.0, 15.0),
+                        low=-180.0, high=180.0, what="minutes of time past the meridian")
+    if flip is not None and limit is not None and limit < flip:
+        problems.add("mount.limit_after", show_value(table.get("limit_after", limit)),
+                     f"limit_after >= flip_after ({flip:g} min): the mount must reach its flip "
+                     "before its tracking limit")
+    return Mount(kind=kind or MountKind.NONE, flip_after_minutes=flip or 0.0,
+                 limit_after_minutes=limit if limit is not None else 15.0)
+
+
+def _alerts(problems: Problems, data: Mapping[str, Any]) -> AlertRules:
+    table = read_table(problems, data, "alerts", "", _ALERTS_KEYS)
+    grace = read_number(problems, table, "grace", "alerts", default=10.0, low=0.0, high=1440.0,
+                        what="a number of minutes")
+    horizon = read_number(problems, table, "horizon_hours", "alerts", default=36.0, low=1.0, high=240.0,
+                          what="a number of hours")
+    replan = read_number(problems, table, "replan", "alerts", default=60.0, low=1.0, high=1440.0,
+                         what="a number of minutes")
+    hold = read_angle(problems, table, "hold_while_sun_above", "alerts", kind="angle", default=None,
+                      low=-90.0, high=90.0, what="a Sun altitude")
+    lead: Mapping[EventKind, tuple[float, ...]] = {}
+    if "lead" in table:
+        lead = parse_lead_minutes(problems, table["lead"], "alerts.lead") or {}
+    urgency = dict(DEFAULT_URGENCY)
+    if "urgency" in table:
+        urgency_table = table["urgency"]
+        if not isinstance(urgency_table, dict):
+            problems.add("alerts.urgency", show_value(urgency_table), 'a table of <event-kind> = "critical"')
+        else:
+            kinds = {k.value: k for k in EventKind}
+            problems.unknown_keys(urgency_table, kinds, "alerts.urgency")
+            for key in urgency_table:
+                if key in kinds:
+                    chosen = read_choice(problems, urgency_table, key, "alerts.urgency",
+                                         [u.value for u in Urgency], convert=Urgency)
+                    if chosen is not None:
+                        urgency[kinds[key]] = chosen
+    return AlertRules(
+        lead_minutes=lead, urgency=urgency, hold_while_sun_above_deg=hold,
+        grace_minutes=grace if grace is not None else 10.0,
+        horizon_hours=horizon if horizon is not None else 36.0,
+        replan_minutes=replan if replan is not None else 60.0,
+    )
+
+
+def _notify(problems: Problems, data: Mapping[str, Any]) -> NotifySettings:
+    table = read_table(problems, data, "notify", "", _NOTIFY_KEYS)
+    desktop = read_bool(problems, table, "desktop", "notify", default=True)
+    timeout = read_number(problems, table, "command_timeout", "notify", default=10.0, low=0.0, high=600.0,
+                          low_open=True, what="a number of seconds")
+    command: tuple[str, ...] = ()
+    if "command" in table:
+        command = _command(problems, table["command"])
+    return NotifySettings(desktop=desktop if desktop is not None else True, command=command,
+                          command_timeout_seconds=timeout if timeout is not None else 10.0)
+
+
+def _command(problems: Problems, value: Any) -> tuple[str, ...]:
+    example = '["notify-send", "{title}", "{body}"] (a program and its arguments; no shell)'
+    if not isinstance(value, list) or not value or not all(isinstance(v, str) for v in value):
+        problems.add("notify.command", show_value(value), f"a list of texts like {example}")
+        return ()
+    if not value[0].strip():
+        problems.add("notify.command[1]", show_value(value[0]), "a program name or path")
+    valid = ", ".join("{" + p + "}" for p in NOTIFY_PLACEHOLDERS)
+    for index, arg in enumerate(value, start=1):
+        try:
+            names = [field for _, field, _, _ in string.Formatter().parse(arg) if field is not None]
+        except ValueError as exc:
+            problems.add(f"notify.command[{index}]", show_value(arg),
+                         f"text with placeholders {valid} ({exc}; write {{{{ and }}}} for literal braces)")
+            continue
+        for name in names:
+            if name not in NOTIFY_PLACEHOLDERS:
+                problems.add(f"notify.command[{index}]", show_value(arg),
+                             f"only the placeholders {valid} (unknown: {{{name}}})")
+    return tuple(value)
+
+
+def _view(problems: Problems, data: Mapping[str, Any]) -> ViewSettings:
+    table = read_table(problems, data, "view", "", _VIEW_KEYS)
+    hz = read_number(problems, table, "refresh_hz", "view", default=1.0, low=0.1, high=10.0,
+                     what="refreshes per second")
+    return ViewSettings(refresh_hz=hz if hz is not None else 1.0)
+
+
+def _targets(problems: Problems, data: Mapping[str, Any], base_dir: str,
+             read_file: Callable[[str], str]) -> tuple[tuple[str, ...], list[Problems], tuple[Target, ...]]:
+    table = read_table(problems, data, "targets", "", _TARGETS_KEYS)
+    files = table.get("files", [])
+    if not isinstance(files, list) or not all(isinstance(f, str) and f for f in files):
+        problems.add("targets.files", show_value(files), 'a list of file names like ["targets.toml"]')
+        return (), [], ()
+    resolved: list[str] = []
+    per_file: list[Problems] = []
+    targets: list[Target] = []
+    seen: dict[str, str] = {}
+    for index, name in enumerate(files, start=1):
+        key = f"targets.files[{index}]"
+        path = os.path.join(base_dir, os.path.expanduser(name))
+        suffix = os.path.splitext(name)[1].lower()
+        if suffix not in (".toml", ".csv"):
+            problems.add(key, show_value(name), "a target file ending in .toml or .csv")
+            continue
+        try:
+            text = read_file(path)
+        except (OSError, UnicodeDecodeError) as exc:
+            problems.add(key, show_value(name), f"a readable target file, relative to the configuration's "
+                         f"directory ({_os_reason(exc)}: {path})")
+            continue
+        resolved.append(path)
+        file_problems = Problems(path, text)
+        collect = collect_targets_csv if suffix == ".csv" else collect_targets_toml
+        parsed = collect(file_problems)
+        per_file.append(file_problems)
+        for target in parsed:
+            if target.name in seen:
+                file_problems.add("name", show_value(target.name),
+                                  f"names unique across all target files (also at {seen[target.name]})",
+                                  line=_line_of_source(target.source))
+                continue
+            seen[target.name] = target.source
+            targets.append(target)
+    return tuple(resolved), per_file, tuple(targets)
+
+
+# ---------------------------------------------------------------------------------------------
+# helpers
+
+_IERS_CACHE: dict[tuple[str, int, int], Any] = {}
+
+
+def _dut1_from_iers(path: Path, unix_seconds: float) -> tuple[float, str]:
+    """Interpolate DUT1 from an IERS finals file (parsed once per process per file version)."""
+    from siderod.astro.timescales import parse_iers_finals
+
+    stat = path.stat()
+    cache_key = (str(path), stat.st_mtime_ns, stat.st_size)
+    table = _IERS_CACHE.get(cache_key)
+    if table is None:
+        with open(path, encoding="ascii", errors="replace") as fileobj:
+            table = parse_iers_finals(fileobj)
+        _IERS_CACHE.clear()
+        _IERS_CACHE[cache_key] = table
+    value = float(table.dut1_seconds(unix_seconds))
+    source = f"iers:{path}"
+    if not bool(table.covers(unix_seconds)):
+        source += " (instant outside the table; nearest value used)"
+    return value, source
+
+
+def _read_text(path: str) -> str:
+    with open(path, encoding="utf-8") as fileobj:
+        return fileobj.read()
+
+
+def _read_config_text(path: Path) -> str:
+    try:
+        return path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise ConfigErrors([ConfigError(str(path), None, "", _os_reason(exc),
+                                        "a readable UTF-8 TOML configuration file")]) from None
+
+
+def _must_exist(path: Path, expected: str) -> Path:
+    if not path.is_file():
+        reason = "a directory" if path.is_dir() else "no such file"
+        raise ConfigErrors([ConfigError(str(path), None, "", reason, expected)])
+    return path
+
+
+def _os_reason(exc: BaseException) -> str:
+    if isinstance(exc, OSError) and exc.strerror:
+        return exc.strerror.lower()
+    if isinstance(exc, UnicodeDecodeError):
+        return "not UTF-8 text"
+    return str(exc)
+
+
+def _line_of_source(source: str) -> int | None:
+    tail = source.rpartition(":")[2]
+    return int(tail) if tail.isdigit() else None

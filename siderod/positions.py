@@ -1,0 +1,255 @@
+"""Where every target, the Sun and the Moon are for one site at one instant: one vectorised call.
+
+Pure: a :class:`~siderod.model.Config` and POSIX seconds in, a :class:`SkyState` of arrays out.
+No clock, no files (DUT1 comes from ``config.time.dut1_seconds``; the CLI looks it up for the
+instant with :func:`siderod.config.dut1_at` first).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from siderod.astro.angles import wrap_hours_12, wrap_hours_24
+from siderod.astro.places import Observer, Stars, hadec_to_altaz, observe, stars_from_radec
+from siderod.astro.refraction import airmass, refraction_from_true_deg
+from siderod.astro.sidereal import last_hours, lmst_hours
+from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun, sun_separation_deg
+from siderod.astro.timescales import instants_from_unix
+from siderod.model import Config, Frame, Site, Target
+
+__all__ = [
+    "TWILIGHT_LIMITS_DEG",
+    "SkyState",
+    "compute_sky",
+    "horizon_altitude_deg",
+    "observer_for",
+    "target_stars",
+    "twilight_name",
+]
+
+#: Sun altitude (geometric, centre) at which each part of the night begins, degrees: sunset and
+#: sunrise at -0.833 deg (16' semi-diameter plus 34' refraction), then the civil, nautical and
+#: astronomical limits at -6, -12 and -18 deg (common practice).
+TWILIGHT_LIMITS_DEG = (("day", -0.833), ("civil", -6.0), ("nautical", -12.0), ("astronomical", -18.0))
+
+
+@dataclass(frozen=True, eq=False)
+class SkyState:
+    """The sky over one site at one instant.
+
+    Per-target arrays have shape (N,), in the order of the targets given.
+
+    Attributes:
+        names: target names.
+        frames: each target's frame (``Frame.value``).
+        ra_hours: apparent topocentric RA of date, hours [0, 24).
+        dec_deg: apparent topocentric Dec of date, degrees.
+        ha_hours: local hour angle, hours [-12, 12), positive west of the meridian.
+        alt_deg: altitude, degrees (refracted when ``[events] refraction`` is on).
+        az_deg: azimuth from north through east, degrees [0, 360).
+        airmass: Pickering (2002) airmass; nan below the horizon.
+        rising: True while the altitude is increasing (east of the meridian); False for fixed
+            hour-angle pointings, whose altitude does not change.
+        min_alt_deg: the lowest usable altitude here and now: the larger of the target's (or the
+            global) ``min_altitude`` and the horizon profile at the target's azimuth.
+        sun_separation_deg: angular distance from the Sun's centre, degrees.
+        unix_seconds, jd_utc, dut1_seconds: the instant, and the DUT1 used.
+        lmst_hours, last_hours: local mean and apparent sidereal time, hours [0, 24).
+        sun_alt_deg, sun_az_deg, moon_alt_deg, moon_az_deg: topocentric, refracted like targets.
+        moon_illuminated_fraction: 0 (new) to 1 (full).
+        twilight: "day", "civil", "nautical", "astronomical" or "night" (see TWILIGHT_LIMITS_DEG).
+    """
+
+    names: tuple[str, ...]
+    frames: tuple[str, ...]
+    ra_hours: np.ndarray
+    dec_deg: np.ndarray
+    ha_hours: np.ndarray
+    alt_deg: np.ndarray
+    az_deg: np.ndarray
+    airmass: np.ndarray
+    rising: np.ndarray
+    min_alt_deg: np.ndarray
+    sun_separation_deg: np.ndarray
+    unix_seconds: float
+    jd_utc: float
+    dut1_seconds: float
+    lmst_hours: float
+    last_hours: float
+    sun_alt_deg: float
+    sun_az_deg: float
+    moon_alt_deg: float
+    moon_az_deg: float
+    moon_illuminated_fraction: float
+    twilight: str
+
+
+def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target] | None = None) -> SkyState:
+    """Positions of the targets, Sun and Moon for ``config.site`` at one instant.
+
+    Args:
+        config: the configuration (site, targets, refraction switch, DUT1).
+        unix_seconds: the instant, POSIX seconds (UTC).
+        targets: the targets to place; ``config.targets`` when None.
+
+    Returns:
+        A :class:`SkyState`.
+    """
+    targets = tuple(config.targets if targets is None else targets)
+    site = config.site
+    observer = observer_for(config)
+    instants = instants_from_unix(float(unix_seconds), dut1_seconds=config.time.dut1_seconds)
+    n = len(targets)
+    ra = np.zeros(n)
+    dec = np.zeros(n)
+    ha = np.zeros(n)
+    alt = np.zeros(n)
+    az = np.zeros(n)
+    rising = np.zeros(n, dtype=bool)
+    last = float(last_hours(instants, site.longitude_deg))
+
+    fixed = np.array([t.frame is Frame.HADEC for t in targets], dtype=bool)
+    sky_index = np.flatnonzero(~fixed)
+    if sky_index.size:
+        jd_tt = float(instants.tt_whole) + float(instants.tt_frac)
+        stars = target_stars([targets[i] for i in sky_index], jd_tt)
+        seen = observe(stars, instants, observer)
+        ra[sky_index], dec[sky_index] = seen.ra_hours, seen.dec_deg
+        ha[sky_index], alt[sky_index], az[sky_index] = seen.ha_hours, seen.alt_deg, seen.az_deg
+        rising[sky_index] = np.asarray(seen.ha_hours) < 0.0
+    fixed_index = np.flatnonzero(fixed)
+    if fixed_index.size:
+        # A fixed hour-angle pointing is already topocentric and of date: only the horizon
+        # transform and refraction apply.
+        ha_fixed = np.array([targets[i].ha_hours for i in fixed_index], dtype=float)
+        dec_fixed = np.array([targets[i].dec_deg for i in fixed_index], dtype=float)
+        alt_true, az_fixed = hadec_to_altaz(ha_fixed, dec_fixed, site.latitude_deg)
+        if observer.refraction:
+            alt_true = alt_true + refraction_from_true_deg(alt_true, observer.effective_pressure_hpa,
+                                                           site.temperature_c)
+        ha[fixed_index] = wrap_hours_12(ha_fixed)
+        dec[fixed_index] = dec_fixed
+        alt[fixed_index], az[fixed_index] = alt_true, az_fixed
+        ra[fixed_index] = wrap_hours_24(last - ha_fixed)
+
+    global_min = config.events.min_altitude_deg
+    own_min = np.array([global_min if t.min_altitude_deg is None else t.min_altitude_deg for t in targets],
+                       dtype=float)
+    sun = observe_sun(instants, observer)
+    moon = observe_moon(instants, observer)
+    sun_geometric = float(sun.alt_geometric_deg)
+    return SkyState(
+        names=tuple(t.name for t in targets),
+        frames=tuple(t.frame.value for t in targets),
+        ra_hours=ra,
+        dec_deg=dec,
+        ha_hours=ha,
+        alt_deg=alt,
+        az_deg=az,
+        airmass=np.asarray(airmass(alt), dtype=float).reshape(n),
+        rising=rising,
+        min_alt_deg=np.maximum(own_min, horizon_altitude_deg(site, az)),
+        sun_separation_deg=np.asarray(sun_separation_deg(ra, dec, instants), dtype=float).reshape(n),
+        unix_seconds=float(unix_seconds),
+        jd_utc=float(instants.utc_whole) + float(instants.utc_frac),
+        dut1_seconds=float(config.time.dut1_seconds),
+        lmst_hours=float(lmst_hours(instants, site.longitude_deg)),
+        last_hours=last,
+        sun_alt_deg=float(sun.alt_deg),
+        sun_az_deg=float(sun.az_deg),
+        moon_alt_deg=float(moon.alt_deg),
+        moon_az_deg=float(moon.az_deg),
+        moon_illuminated_fraction=float(moon_illuminated_fraction(instants)),
+        twilight=twilight_name(sun_geometric),
+    )
+
+
+def observer_for(config: Config) -> Observer:
+    """The :class:`~siderod.astro.places.Observer` for the configured site and refraction switch."""
+    site = config.site
+    return Observer(latitude_deg=site.latitude_deg, longitude_deg=site.longitude_deg,
+                    elevation_m=site.elevation_m, pressure_hpa=site.pressure_hpa,
+                    temperature_c=site.temperature_c, refraction=config.events.refraction)
+
+
+def horizon_altitude_deg(site: Site, az_deg):
+    """Lowest usable altitude of the site's horizon profile at azimuth ``az_deg``.
+
+    The profile's points are joined by straight lines in azimuth, wrapping through north; with no
+    profile the horizon is flat at 0 deg.
+
+    Args:
+        site: the site (``site.horizon``: (azimuth_deg, altitude_deg) points, sorted by azimuth).
+        az_deg (array_like): azimuth, degrees from north through east, any shape.
+
+    Returns:
+        ndarray: altitude in degrees, same shape as ``az_deg``.
+
+    >>> site = Site("x", 0.0, 0.0, horizon=((0.0, 10.0), (90.0, 20.0)))
+    >>> horizon_altitude_deg(site, [45.0, 225.0, 315.0]).round(3).tolist()
+    [15.0, 15.0, 11.667]
+    """
+    az = np.asarray(az_deg, dtype=float) % 360.0
+    if not site.horizon:
+        return np.zeros_like(az)
+    points = np.array(site.horizon, dtype=float)
+    az_points = np.concatenate([points[:, 0] - 360.0, points[:, 0], points[:, 0] + 360.0])
+    alt_points = np.tile(points[:, 1], 3)
+    return np.interp(az, az_points, alt_points)
+
+
+def target_stars(targets: Sequence[Target], jd_tt: float) -> Stars:
+    """Catalogue places (ICRS + space motion) of sky targets, for :func:`siderod.astro.places.observe`.
+
+    Ecliptic-of-date targets are converted with the mean ecliptic and equinox of ``jd_tt``; the
+    others use their ICRS place from load time.
+
+    Args:
+        targets: targets of any frame except ``Frame.HADEC`` (fixed pointings have no catalogue place).
+        jd_tt: Julian date (TT) for ecliptic-of-date conversion (one float is ample: the ecliptic
+            moves 50"/year).
+
+    Returns:
+        :class:`~siderod.astro.places.Stars` of shape (N,).
+
+    Raises:
+        ValueError: a fixed hour-angle target was given.
+    """
+    ra = np.empty(len(targets))
+    dec = np.empty(len(targets))
+    of_date = []
+    for i, target in enumerate(targets):
+        if target.frame is Frame.HADEC:
+            raise ValueError(f"target {target.name!r} is a fixed hour-angle pointing; it has no catalogue "
+                             "place (place it with hadec_to_altaz instead)")
+        if target.frame is Frame.ECLIPTIC_OF_DATE:
+            of_date.append(i)
+        else:
+            ra[i] = target.ra_deg
+            dec[i] = target.dec_deg
+    if of_date:
+        from siderod.astro.frames import ecliptic_of_date_to_icrs_deg
+
+        whole = np.floor(jd_tt - 0.5) + 0.5
+        lon = np.array([targets[i].lon_deg for i in of_date])
+        lat = np.array([targets[i].lat_deg for i in of_date])
+        ra[of_date], dec[of_date] = ecliptic_of_date_to_icrs_deg(lon, lat, whole, jd_tt - whole)
+    return stars_from_radec(
+        ra, dec,
+        pm_ra_cosdec_mas_per_year=np.array([t.pm_ra_cosdec_mas_per_year for t in targets], dtype=float),
+        pm_dec_mas_per_year=np.array([t.pm_dec_mas_per_year for t in targets], dtype=float),
+        parallax_mas=np.array([t.parallax_mas for t in targets], dtype=float),
+        radial_velocity_km_s=np.array([t.radial_velocity_km_s for t in targets], dtype=float),
+        epoch_jd_tt=np.array([t.epoch_jd_tt for t in targets], dtype=float),
+    )
+
+
+def twilight_name(sun_alt_geometric_deg: float) -> str:
+    """"day", "civil", "nautical", "astronomical" or "night" for a geometric Sun altitude."""
+    for name, limit in TWILIGHT_LIMITS_DEG:
+        if sun_alt_geometric_deg > limit:
+            return name
+    return "night"

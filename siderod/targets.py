@@ -1,0 +1,333 @@
+"""Read target lists (TOML ``[[target]]`` tables or a plain name,ra,dec CSV) into Target records.
+
+Every angle goes through :func:`siderod.astro.angles.parse_angle_deg`. Galactic and J2000 ecliptic
+coordinates are turned into ICRS here, once; ecliptic-of-date targets and fixed hour-angle
+pointings are resolved per instant by :mod:`siderod.positions`.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from collections.abc import Mapping
+from typing import Any
+
+from siderod.model import EventKind, Frame, Target
+from siderod.tomlpos import (
+    Problems,
+    parse_angle_value,
+    read_angle,
+    read_choice,
+    read_number,
+    read_string,
+    show_value,
+)
+
+__all__ = [
+    "FRAME_CHOICES",
+    "TARGET_KEYS",
+    "parse_lead_minutes",
+    "parse_targets_csv",
+    "parse_targets_toml",
+]
+
+#: The ``frame`` values a target file accepts, and the coordinate keys each one takes.
+FRAME_CHOICES: Mapping[str, tuple[str, str]] = {
+    "icrs": ("ra", "dec"),
+    "galactic": ("l", "b"),
+    "ecliptic": ("lon", "lat"),
+    "hadec": ("ha", "dec"),
+}
+_COORD_KEYS = {"ra", "dec", "l", "b", "lon", "lat", "ha"}
+_MOTION_KEYS = ("pm_ra", "pm_dec", "parallax", "rv", "epoch")
+#: Every key a ``[[target]]`` table may hold.
+TARGET_KEYS = frozenset(
+    {"name", "frame", "equinox", "min_altitude", "alerts", "tags", *_COORD_KEYS, *_MOTION_KEYS}
+)
+#: Lowest usable altitudes are accepted in this range (degrees): a little below the horizon
+#: (refraction and dip from a hill top) up to the zenith.
+MIN_ALTITUDE_RANGE_DEG = (-5.0, 90.0)
+#: Lead times are accepted up to one day ahead (minutes).
+MAX_LEAD_MINUTES = 1440.0
+_JULIAN_YEAR_DAYS = 365.25
+_J2000_JD = 2451545.0
+
+
+def parse_targets_toml(text: str, path: str) -> tuple[Target, ...]:
+    """Parse a TOML target file of ``[[target]]`` tables.
+
+    Args:
+        text: the file's text.
+        path: the file name used in messages and in each target's ``source``.
+
+    Returns:
+        The targets, in file order.
+
+    Raises:
+        ConfigErrors: every problem in the file, each with its line and key path
+            (``target[3].ra``: the third ``[[target]]`` table, counting from 1).
+    """
+    problems = Problems(path, text)
+    targets = collect_targets_toml(problems)
+    problems.raise_if_any()
+    return targets
+
+
+def parse_targets_csv(text: str, path: str) -> tuple[Target, ...]:
+    """Parse a plain CSV catalogue: ``name,ra,dec`` per line, header line optional.
+
+    RA takes any angle form (sexagesimal means hours, a bare decimal degrees); Dec is degrees.
+    Blank lines and lines starting with ``#`` are skipped.
+
+    Raises:
+        ConfigErrors: every problem in the file, each with its line.
+    """
+    problems = Problems(path, text)
+    targets = collect_targets_csv(problems)
+    problems.raise_if_any()
+    return targets
+
+
+def collect_targets_toml(problems: Problems) -> tuple[Target, ...]:
+    """Like :func:`parse_targets_toml`, but records problems in ``problems`` instead of raising."""
+    data = problems.parse_toml()
+    if data is None:
+        return ()
+    problems.unknown_keys(data, ("target",), "")
+    entries = data.get("target", [])
+    if not isinstance(entries, list) or not all(isinstance(e, dict) for e in entries):
+        problems.add("target", show_value(entries), "[[target]] tables, one per target")
+        return ()
+    targets: list[Target] = []
+    first_use: dict[str, str] = {}
+    for number, entry in enumerate(entries, start=1):
+        prefix = f"target[{number}]"
+        target = _one_target(problems, entry, prefix)
+        if target is None:
+            continue
+        if target.name in first_use:
+            problems.add(f"{prefix}.name", show_value(target.name),
+                         f"a unique name (already used by {first_use[target.name]})")
+            continue
+        first_use[target.name] = f"{prefix} at line {problems.line_of(prefix)}"
+        targets.append(target)
+    return tuple(targets)
+
+
+def collect_targets_csv(problems: Problems) -> tuple[Target, ...]:
+    """Like :func:`parse_targets_csv`, but records problems in ``problems`` instead of raising."""
+    targets: list[Target] = []
+    seen: dict[str, int] = {}
+    reader = csv.reader(io.StringIO(problems.text))
+    first_row = True
+    for row in reader:
+        line = reader.line_num
+        cells = [c.strip() for c in row]
+        if not any(cells) or cells[0].startswith("#"):
+            continue
+        if first_row and [c.lower() for c in cells[:3]] == ["name", "ra", "dec"] and len(cells) == 3:
+            first_row = False
+            continue
+        first_row = False
+        if len(cells) != 3:
+            problems.add("row", show_value(",".join(row)), "three columns: name,ra,dec", line=line)
+            continue
+        name, ra_text, dec_text = cells
+        sub = Problems(problems.path, "")  # so each cell's problem gets this row's line
+        ra_deg = parse_angle_value(sub, "ra", ra_text, kind="ra", what="a right ascension")
+        dec_deg = parse_angle_value(sub, "dec", dec_text, kind="dec", what="a declination")
+        for error in sub.errors:
+            problems.add(error.key, error.got, error.expected, line=line)
+        if not name:
+            problems.add("name", '""', "a target name in the first column", line=line)
+            continue
+        if name in seen:
+            problems.add("name", show_value(name), f"a unique name (already used on line {seen[name]})",
+                         line=line)
+            continue
+        if ra_deg is None or dec_deg is None:
+            continue
+        seen[name] = line
+        targets.append(Target(name=name, frame=Frame.ICRS, lon_deg=ra_deg, lat_deg=dec_deg,
+                              ra_deg=ra_deg, dec_deg=dec_deg, source=f"{problems.path}:{line}"))
+    return tuple(targets)
+
+
+def parse_lead_minutes(
+    problems: Problems, table: Any, prefix: str
+) -> dict[EventKind, tuple[float, ...]] | None:
+    """Check a ``{<event-kind> = [minutes, ...]}`` table; returns None after recording problems.
+
+    Lead times are minutes before the event (0 = at the event), returned largest first, without
+    repeats.
+    """
+    if not isinstance(table, dict):
+        problems.add(prefix, show_value(table), "a table of <event-kind> = [minutes, ...]")
+        return None
+    kinds = {kind.value: kind for kind in EventKind}
+    result: dict[EventKind, tuple[float, ...]] = {}
+    ok = True
+    problems.unknown_keys(table, kinds, prefix)
+    for key, value in table.items():
+        if key not in kinds:
+            ok = False
+            continue
+        path = f"{prefix}.{key}"
+        if not isinstance(value, list):
+            problems.add(path, show_value(value), "a list of lead times in minutes, like [10, 0]")
+            ok = False
+            continue
+        minutes: list[float] = []
+        for index, item in enumerate(value, start=1):
+            got = read_number(problems, {"m": item}, "m", "", low=0.0, high=MAX_LEAD_MINUTES,
+                              what="a lead time in minutes")
+            if got is None:
+                # re-file the problem under the element's own key path
+                error = problems.errors.pop()
+                problems.add(f"{path}[{index}]", error.got, error.expected)
+                ok = False
+            else:
+                minutes.append(got)
+        result[kinds[key]] = tuple(sorted(set(minutes), reverse=True))
+    return result if ok else None
+
+
+# ---------------------------------------------------------------------------------------------
+# helpers
+
+
+def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Target | None:
+    before = len(problems.errors)
+    problems.unknown_keys(entry, TARGET_KEYS, prefix)
+    name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
+    frame_text = read_choice(problems, entry, "frame", prefix, tuple(FRAME_CHOICES), default="icrs")
+    equinox = read_choice(problems, entry, "equinox", prefix, ("J2000", "date"), default="J2000")
+    if "equinox" in entry and frame_text not in (None, "ecliptic"):
+        problems.add(f"{prefix}.equinox", show_value(entry["equinox"]),
+                     'no equinox: it is only used with frame = "ecliptic"')
+    coords = _coordinates(problems, entry, prefix, frame_text)
+    motion = _motion(problems, entry, prefix, frame_text)
+    min_alt = read_angle(problems, entry, "min_altitude", prefix, kind="angle", default=None,
+                         low=MIN_ALTITUDE_RANGE_DEG[0], high=MIN_ALTITUDE_RANGE_DEG[1],
+                         what="a lowest usable altitude")
+    alerts_enabled, lead = _alerts(problems, entry, prefix)
+    tags = _tags(problems, entry, prefix)
+    if len(problems.errors) > before or coords is None or name is None or frame_text is None:
+        return None
+    frame = Frame.ECLIPTIC_OF_DATE if frame_text == "ecliptic" and equinox == "date" else Frame(frame_text)
+    lon_deg, lat_deg = coords
+    ra_deg, dec_deg, ha_hours = _to_icrs(frame, lon_deg, lat_deg)
+    return Target(
+        name=name, frame=frame, lon_deg=lon_deg, lat_deg=lat_deg, ra_deg=ra_deg, dec_deg=dec_deg,
+        ha_hours=ha_hours, min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled,
+        source=f"{problems.path}:{problems.line_of(prefix)}", tags=tags, **motion,
+    )
+
+
+def _coordinates(problems: Problems, entry: dict[str, Any], prefix: str,
+                 frame_text: str | None) -> tuple[float, float] | None:
+    if frame_text is None:
+        return None
+    first, second = FRAME_CHOICES[frame_text]
+    ok = True
+    for key in sorted(_COORD_KEYS & entry.keys() - {first, second}):
+        owners = [f'"{f}"' for f, keys in FRAME_CHOICES.items() if key in keys]
+        problems.add(f"{prefix}.{key}", f"{key} = {show_value(entry[key])}",
+                     f'{first} and {second} for frame = "{frame_text}" ({key} belongs to frame '
+                     f"{' or '.join(owners)})")
+        ok = False
+    if frame_text == "icrs":
+        lon = read_angle(problems, entry, "ra", prefix, kind="ra", what="a right ascension")
+        lat = read_angle(problems, entry, "dec", prefix, kind="dec", what="a declination")
+    elif frame_text == "hadec":
+        # hour angles: sexagesimal or bare numbers are hours; kept in [-12 h, 12 h]
+        lon = None
+        if "ha" not in entry:
+            problems.add(f"{prefix}.ha", "nothing (the key is missing)", "ha = an hour angle")
+        else:
+            lon = parse_angle_value(problems, f"{prefix}.ha", entry["ha"], kind="hour_angle", low=-12.0,
+                                    high=12.0, what="an hour angle", scale=15.0, unit="hours")
+        lat = read_angle(problems, entry, "dec", prefix, kind="dec", what="a declination")
+    else:
+        what = "a galactic" if frame_text == "galactic" else "an ecliptic"
+        lon = read_angle(problems, entry, first, prefix, kind="angle", low=-360.0, high=360.0,
+                         what=f"{what} longitude")
+        lat = read_angle(problems, entry, second, prefix, kind="dec", what=f"{what} latitude")
+        if lon is not None:
+            lon = lon % 360.0
+    if lon is None or lat is None or not ok:
+        return None
+    return lon, lat
+
+
+def _motion(
+    problems: Problems, entry: dict[str, Any], prefix: str, frame_text: str | None
+) -> dict[str, float]:
+    given = [k for k in _MOTION_KEYS if k in entry]
+    if given and frame_text not in ("icrs", None):
+        for key in given:
+            problems.add(f"{prefix}.{key}", show_value(entry[key]),
+                         f"no {key} for frame = \"{frame_text}\": proper motion, parallax and radial "
+                         "velocity are taken with ra/dec (frame \"icrs\") only")
+        return {}
+    pm_ra = read_number(problems, entry, "pm_ra", prefix, default=0.0, low=-20000.0, high=20000.0,
+                        what="a proper motion in RA, mas/yr including cos(dec),")
+    pm_dec = read_number(problems, entry, "pm_dec", prefix, default=0.0, low=-20000.0, high=20000.0,
+                         what="a proper motion in Dec, mas/yr,")
+    parallax = read_number(problems, entry, "parallax", prefix, default=0.0, low=0.0, high=1000.0,
+                           what="a parallax in mas")
+    rv = read_number(problems, entry, "rv", prefix, default=0.0, low=-3000.0, high=3000.0,
+                     what="a radial velocity in km/s")
+    epoch = read_number(problems, entry, "epoch", prefix, default=2000.0, low=1800.0, high=2200.0,
+                        what="a catalogue epoch as a Julian year (e.g. 2016.0)")
+    if None in (pm_ra, pm_dec, parallax, rv, epoch):
+        return {}
+    return {
+        "pm_ra_cosdec_mas_per_year": pm_ra,
+        "pm_dec_mas_per_year": pm_dec,
+        "parallax_mas": parallax,
+        "radial_velocity_km_s": rv,
+        "epoch_jd_tt": _J2000_JD + (epoch - 2000.0) * _JULIAN_YEAR_DAYS,
+    }
+
+
+def _alerts(problems: Problems, entry: dict[str, Any], prefix: str) -> tuple[bool, Any]:
+    if "alerts" not in entry:
+        return True, None
+    value = entry["alerts"]
+    if isinstance(value, bool):
+        return value, None
+    if isinstance(value, dict):
+        return True, parse_lead_minutes(problems, value, f"{prefix}.alerts")
+    problems.add(f"{prefix}.alerts", show_value(value),
+                 "false (no alerts for this target), true, or a table like { culmination = [10, 0] }")
+    return True, None
+
+
+def _tags(problems: Problems, entry: dict[str, Any], prefix: str) -> tuple[str, ...]:
+    value = entry.get("tags", [])
+    if not isinstance(value, list) or not all(isinstance(t, str) and t for t in value):
+        problems.add(f"{prefix}.tags", show_value(value), 'a list of texts, like ["galaxy", "bright"]')
+        return ()
+    return tuple(value)
+
+
+def _to_icrs(frame: Frame, lon_deg: float, lat_deg: float) -> tuple[float | None, float, float | None]:
+    """(ra_deg, dec_deg, ha_hours) for a Target record."""
+    if frame is Frame.ICRS:
+        return lon_deg, lat_deg, None
+    if frame is Frame.HADEC:
+        return None, lat_deg, lon_deg / 15.0
+    from siderod.astro import frames
+
+    if frame is Frame.GALACTIC:
+        ra, dec = frames.galactic_to_icrs_deg(lon_deg, lat_deg)
+        return float(ra), float(dec), None
+    # Ecliptic of J2000 -> ICRS. For ecliptic-of-date the RA is left None (resolved per instant by
+    # siderod.positions.target_stars); the J2000 Dec is kept as a close stand-in (precession moves
+    # it by well under a degree per century) for anything that needs a rough declination.
+    ra, dec = frames.ecliptic_j2000_to_icrs_deg(lon_deg, lat_deg)
+    if frame is Frame.ECLIPTIC_OF_DATE:
+        return None, float(dec), None
+    return float(ra), float(dec), None
+

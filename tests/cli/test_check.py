@@ -1,0 +1,63 @@
+"""`siderod check` and `siderod check --doctor`."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+import pytest
+
+from siderod.cli.main import main
+
+
+def test_demo_summary(capsys, demo_config_path):
+    code = main(["check", "--config", str(demo_config_path)])
+    out, _ = capsys.readouterr()
+    assert code == 0
+    assert "Corrie Hill Observatory" in out
+    assert "targets: 14 (9 icrs, 2 galactic, 1 ecliptic, 1 ecliptic-of-date, 1 hadec)" in out
+    assert "flip-due: 10, 0 (critical)" in out
+    assert "mount's own limits always win" in out
+    assert out.rstrip().endswith("OK")
+
+
+def test_every_error_is_printed_and_exit_is_1(capsys, tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[site]\nname = "x"\nlatitude = 95\nlongitude = 0\ntimezone = "Mars/Olympus"\n'
+                   '[mount]\nkind = "german-equatorial"\n')
+    code = main(["check", "--config", str(bad)])
+    out, _ = capsys.readouterr()
+    assert code == 1
+    assert "2 problems found; nothing was loaded" in out
+    assert f"{bad}:3: site.latitude:" in out and f"{bad}:5: site.timezone:" in out
+
+
+def test_german_mount_without_flip_alert_is_cautioned(capsys, tmp_path):
+    cfg = tmp_path / "c.toml"
+    cfg.write_text('[site]\nname = "x"\nlatitude = 50\nlongitude = 0\n[mount]\nkind = "german-equatorial"\n')
+    assert main(["check", "--config", str(cfg)]) == 0
+    out, _ = capsys.readouterr()
+    assert "no flip-due alert" in out and "pier" in out
+
+
+def test_doctor_reports_environment(capsys, demo_config_path, monkeypatch, tmp_path):
+    monkeypatch.delenv("DBUS_SESSION_BUS_ADDRESS", raising=False)
+    code = main(["check", "--doctor", "--config", str(demo_config_path)])
+    out, _ = capsys.readouterr()
+    assert code == 0
+    assert "versions: siderod" in out and "numpy" in out
+    assert f"configuration: {demo_config_path} (given with --config)" in out
+    assert "known good 1960-01-01 .. 2027-06-28" in out
+    assert "control socket:" in out
+    assert "service: not answering" in out or "service: unknown" in out
+    assert "DBUS_SESSION_BUS_ADDRESS is not set" in out
+
+
+@pytest.mark.slow
+def test_check_end_to_end_in_a_fresh_process(tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[site]\nname = \n")
+    result = subprocess.run([sys.executable, "-m", "siderod", "check", "--config", str(bad)],
+                            capture_output=True, text=True, timeout=60, check=False)
+    assert result.returncode == 1
+    assert f"{bad}:2:" in result.stdout and "valid TOML" in result.stdout
