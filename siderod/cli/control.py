@@ -1,0 +1,331 @@
+"""`siderod status|mute|unmute|reload|test-alert`: talk to the running service over its control socket."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import os
+import re
+import sys
+from datetime import datetime
+from typing import Any
+
+__all__ = [
+    "register",
+    "run",
+    "parse_duration_seconds",
+    "format_duration",
+    "format_status",
+    "status_to_json",
+    "EXIT_OK",
+    "EXIT_REFUSED",
+    "EXIT_NOT_RUNNING",
+    "EXIT_FAILURE",
+]
+
+EXIT_OK = 0
+EXIT_REFUSED = 1  # the service answered with an error (unknown target, invalid configuration...)
+EXIT_NOT_RUNNING = 3
+EXIT_FAILURE = 4
+
+# How long each verb waits for the service. test-alert waits for every channel to finish (each
+# bounded by its own timeout); reload parses and validates the whole configuration.
+_TIMEOUT_SECONDS = {"status": 3.0, "mute": 3.0, "unmute": 3.0, "reload": 20.0, "test-alert": 30.0}
+
+_DURATION_RE = re.compile(r"(?:(\d+)d)?(?:(\d+)h)?(?:(\d+)m)?(?:(\d+)s)?")
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    """Add the five control verbs: status, mute, unmute, reload, test-alert."""
+    socket_help = "the service's control socket (default: $XDG_RUNTIME_DIR/siderod/control.sock)"
+
+    status = subparsers.add_parser(
+        "status", help="show what the running service is doing",
+        description="Uptime, site, LST, clock health, next alerts, channel health and mutes.",
+    )
+    status.add_argument("--json", action="store_true", help="print one JSON object instead of text")
+    mute = subparsers.add_parser(
+        "mute", help="stop alerts for one target (for a while, or until unmuted)",
+        description="Stop alerts for TARGET. Without --for it stays muted until `siderod unmute`.",
+    )
+    mute.add_argument("target", metavar="TARGET", help="a target name from the configuration")
+    mute.add_argument(
+        "--for", dest="for_seconds", metavar="DURATION", type=_duration_arg,
+        help="how long, e.g. 90m, 2h, 1h30m, 1d (units d, h, m, s)",
+    )
+    unmute = subparsers.add_parser("unmute", help="give alerts for a muted target again")
+    unmute.add_argument("target", metavar="TARGET", help="a muted target's name")
+    reload = subparsers.add_parser(
+        "reload", help="re-read the configuration now",
+        description="Validate the configuration and target files and switch to them; on any error the "
+        "service keeps its current configuration and this command prints the problems.",
+    )
+    test_alert = subparsers.add_parser(
+        "test-alert", help="send one test alert through every channel and report each result",
+    )
+    for verb, parser in (
+        ("status", status), ("mute", mute), ("unmute", unmute), ("reload", reload), ("test-alert", test_alert)
+    ):
+        parser.add_argument("--socket", metavar="PATH", help=socket_help)
+        parser.set_defaults(func=run, control_verb=verb)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Send the verb's request, print the answer, and return the exit code."""
+    from siderod.errors import ControlError, ServiceNotRunning
+    from siderod.service.control import request_once
+    from siderod.service.protocol import BadReply
+
+    verb = args.control_verb
+    request: dict[str, Any] = {"op": verb}
+    if verb == "mute":
+        request.update(target=args.target, for_seconds=args.for_seconds)
+    elif verb == "unmute":
+        request["target"] = args.target
+    try:
+        result = request_once(_socket_path(args), request, timeout_seconds=_TIMEOUT_SECONDS[verb])
+        if verb != "status":
+            return _report_result(verb, args, result)
+        _print_status(result, as_json=getattr(args, "json", False))
+    except ServiceNotRunning as e:
+        print(f"siderod: {e}", file=sys.stderr)
+        return EXIT_NOT_RUNNING
+    except ControlError as e:
+        print(f"siderod: the service refused {verb}: {e}", file=sys.stderr)
+        return EXIT_REFUSED
+    except BadReply as e:
+        print(f"siderod: the service's status could not be read: {e}", file=sys.stderr)
+        return EXIT_FAILURE
+    return EXIT_OK
+
+
+def parse_duration_seconds(text: str) -> float:
+    """``"90m"``, ``"2h"``, ``"1h30m"``, ``"1d"``, ``"45s"`` -> seconds (always > 0).
+
+    Raises:
+        ValueError: with the accepted forms, for anything else.
+    """
+    cleaned = text.strip().lower().replace(" ", "")
+    match = _DURATION_RE.fullmatch(cleaned)
+    if not cleaned or match is None or not any(match.groups()):
+        raise ValueError(f"expected a duration like 90m, 2h, 1h30m or 1d (units d, h, m, s), got {text!r}")
+    days, hours, minutes, seconds = (int(g) if g else 0 for g in match.groups())
+    total = ((days * 24 + hours) * 60 + minutes) * 60 + seconds
+    if total <= 0:
+        raise ValueError(f"a mute lasts more than 0 s; got {text!r} (leave out --for to mute until unmuted)")
+    return float(total)
+
+
+def format_duration(seconds: float) -> str:
+    """``5400`` -> ``"1h 30m"``; under a minute shows seconds; days when over 48 h."""
+    seconds = max(0, int(round(seconds)))
+    days, rest = divmod(seconds, 86400)
+    hours, rest = divmod(rest, 3600)
+    minutes, secs = divmod(rest, 60)
+    if days >= 2:
+        return f"{days}d {hours}h"
+    hours += days * 24
+    if hours:
+        return f"{hours}h {minutes:02d}m"
+    return f"{minutes}m {secs:02d}s" if minutes else f"{secs}s"
+
+
+def status_to_json(result: dict[str, Any]) -> dict[str, Any]:
+    """The ``status --json`` object: the service's snapshot plus what this command works out locally.
+
+    Added keys: ``uptime_seconds``, ``lst`` (``{"at_utc", "last_hours", "lmst_hours"}`` or null when
+    the astronomy core is not importable) and ``clock_warning`` (text or null).
+    """
+    from siderod.service.protocol import format_iso_z
+
+    snapshot = _snapshot(result)
+    lst = _local_sidereal_hours(snapshot)
+    data = dict(_snapshot_json(result))
+    data["uptime_seconds"] = (snapshot.taken_utc - snapshot.started_utc).total_seconds()
+    data["lst"] = (
+        None if lst is None
+        else {"at_utc": format_iso_z(snapshot.taken_utc), "last_hours": lst[0], "lmst_hours": lst[1]}
+    )
+    data["clock_warning"] = _clock_warning(snapshot)
+    return data
+
+
+def format_status(result: dict[str, Any]) -> str:
+    """The plain-text status report (no colour, so it reads the same in a pipe or a log)."""
+    from siderod.astro.angles import format_dms, format_hms
+
+    s = _snapshot(result)
+    zone = _zone(s.site.timezone)
+    uptime = (s.taken_utc - s.started_utc).total_seconds()
+    lines = [
+        f"siderod service: running for {format_duration(uptime)} (since {_utc(s.started_utc)})",
+        f"site:    {s.site.name}  lat {format_dms(s.site.latitude_deg, sign=True)}  "
+        f"lon {format_dms(s.site.longitude_deg, sign=True)} (east +)  {s.site.elevation_m:.0f} m  "
+        f"{s.site.timezone}",
+        f"config:  {s.config_path}",
+    ]
+    if s.config_error:
+        lines.append(f"  last reload FAILED, still on the previous configuration: {s.config_error}")
+    lst = _local_sidereal_hours(s)
+    if lst is None:
+        lines.append("LST:     not shown (the astronomy core is not importable here)")
+    else:
+        lines.append(
+            f"LST:     {format_hms(lst[0], decimals=0)} apparent, {format_hms(lst[1], decimals=0)} mean, "
+            f"at {_utc(s.taken_utc)}"
+        )
+    lines.append(f"DUT1:    {s.dut1_seconds:+.3f} s ({s.dut1_source})")
+    clock = s.clock_health
+    lines.append(f"clock:   {clock.state}" + (f" -- {clock.detail}" if clock.detail else ""))
+    warning = _clock_warning(s)
+    if warning:
+        lines.append(f"  WARNING: {warning}")
+
+    lines.append(f"next alerts ({s.planned_count} planned, {s.missed_count} missed):")
+    if not s.next_alerts:
+        lines.append("  none planned")
+    for alert in s.next_alerts:
+        ahead = (alert.due_utc - s.taken_utc).total_seconds()
+        when = f"in {format_duration(ahead)}" if ahead >= 0 else f"{format_duration(-ahead)} late"
+        lines.append(
+            f"  {_local(alert.due_utc, zone)}  {when:<12} {alert.urgency.value:<8}  {alert.title}"
+        )
+    lines.append("channels:")
+    if not s.channels:
+        lines.append("  none reported")
+    for channel in s.channels:
+        state = "ok" if channel.healthy else "FAILING"
+        extra = f": {channel.last_error}" if channel.last_error and not channel.healthy else ""
+        last_ok = f" (last ok {_utc(channel.last_ok_utc)})" if channel.last_ok_utc else ""
+        lines.append(f"  {channel.name:<10} {state}{extra}{last_ok}")
+    lines.append("muted:" + ("" if s.muted else " nothing"))
+    for target, until in sorted(s.muted.items()):
+        lines.append(f"  {target}: " + ("until unmuted" if until is None else f"until {_local(until, zone)}"))
+    return "\n".join(lines)
+
+
+# -- helpers, in the order they are used ------------------------------------------------------------
+
+
+def _duration_arg(text: str) -> float:
+    try:
+        return parse_duration_seconds(text)
+    except ValueError as e:
+        raise argparse.ArgumentTypeError(str(e)) from None
+
+
+def _socket_path(args: argparse.Namespace) -> str:
+    if getattr(args, "socket", None):
+        return args.socket
+    from siderod.paths import resolve_paths
+
+    return os.fspath(resolve_paths(os.environ).socket_path)
+
+
+def _print_status(result: dict[str, Any], *, as_json: bool) -> None:
+    if as_json:
+        print(json.dumps(status_to_json(result), indent=2, allow_nan=False))
+    else:
+        print(format_status(result))
+
+
+def _report_result(verb: str, args: argparse.Namespace, result: dict[str, Any]) -> int:
+    """Print what the service did; the exit code says whether it did what was asked."""
+    message = result.get("message")
+    if verb == "mute":
+        target = result.get("target") or args.target
+        until = result.get("until_utc")
+        how_long = "until unmuted" if args.for_seconds is None else f"for {format_duration(args.for_seconds)}"
+        print(f"muted {target} {how_long}" + (f" (until {until})" if isinstance(until, str) else ""))
+    elif verb == "unmute":
+        target = result.get("target") or args.target
+        print(f"{target} was not muted" if result.get("was_muted") is False else f"unmuted {target}")
+    elif verb == "reload":
+        if result.get("reloaded") is False:
+            error = result.get("error") or "the configuration is invalid"
+            print(f"siderod: reload failed; the service keeps its previous configuration:\n{error}",
+                  file=sys.stderr)
+            return EXIT_REFUSED
+        where = result.get("config_path")
+        print("configuration reloaded" + (f" from {where}" if where else ""))
+    else:
+        return _report_test_alert(result.get("channels"))
+    if isinstance(message, str) and message:
+        print(message)
+    return EXIT_OK
+
+
+def _report_test_alert(channels: Any) -> int:
+    # The service reports {channel: "ok" or the error}; a list of {"channel", "ok", "error"} also works.
+    outcomes: list[tuple[str, str]] = []
+    if isinstance(channels, dict):
+        outcomes = [(str(name), str(outcome)) for name, outcome in channels.items()]
+    elif isinstance(channels, list):
+        for item in channels:
+            if isinstance(item, dict):
+                ok = item.get("ok") is True
+                outcomes.append((str(item.get("channel", "?")), "ok" if ok else str(item.get("error", ""))))
+    print("test alert sent:")
+    failed = 0
+    for name, outcome in outcomes:
+        if outcome == "ok":
+            print(f"  {name}: ok")
+        else:
+            failed += 1
+            print(f"  {name}: FAILED: {outcome}")
+    if failed:
+        print(f"siderod: {failed} channel{'s' if failed != 1 else ''} failed; see above", file=sys.stderr)
+    return EXIT_FAILURE if failed else EXIT_OK
+
+
+def _snapshot_json(result: dict[str, Any]) -> dict[str, Any]:
+    # The service may send the snapshot as the result itself or under "snapshot".
+    inner = result.get("snapshot")
+    return inner if isinstance(inner, dict) else result
+
+
+def _snapshot(result: dict[str, Any]):
+    from siderod.service.protocol import snapshot_from_json
+
+    return snapshot_from_json(_snapshot_json(result))
+
+
+def _local_sidereal_hours(snapshot) -> tuple[float, float] | None:
+    """(apparent, mean) LST at the snapshot's time for its site, or None without the astronomy core."""
+    try:
+        from siderod.astro.sidereal import last_hours, lmst_hours
+        from siderod.astro.timescales import instants_from_unix
+    except ImportError:
+        return None
+    instants = instants_from_unix(snapshot.taken_utc.timestamp(), dut1_seconds=snapshot.dut1_seconds)
+    lon_deg = snapshot.site.longitude_deg
+    apparent, mean = float(last_hours(instants, lon_deg)), float(lmst_hours(instants, lon_deg))
+    if not (math.isfinite(apparent) and math.isfinite(mean)):
+        return None
+    return apparent, mean
+
+
+def _clock_warning(snapshot) -> str | None:
+    from siderod.clockhealth import format_clock_warning
+
+    return format_clock_warning(snapshot.clock_health)
+
+
+def _zone(name: str):
+    from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
+
+    try:
+        return ZoneInfo(name)
+    except (ZoneInfoNotFoundError, ValueError):
+        return None
+
+
+def _utc(when: datetime) -> str:
+    return when.strftime("%Y-%m-%d %H:%M:%S UTC")
+
+
+def _local(when: datetime, zone) -> str:
+    if zone is None:
+        return _utc(when)
+    return when.astimezone(zone).strftime("%Y-%m-%d %H:%M %Z") + f" ({when.strftime('%H:%M')} UTC)"
