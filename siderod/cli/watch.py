@@ -1,0 +1,160 @@
+"""`siderod watch`: the live sky board in this terminal, from the running service or computed here."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from typing import Any
+
+__all__ = ["register", "run"]
+
+_EXIT_OK, _EXIT_BAD_INPUT, _EXIT_USAGE = 0, 1, 2
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    """Add ``watch`` to the command line."""
+    parser = subparsers.add_parser(
+        "watch",
+        help="live sidereal clock and target board in this terminal",
+        description="Show a live board: apparent and mean LST, UTC, site time, the Sun, the Moon and "
+        "every target ordered by what needs attention next, with the alerts the running service has "
+        "planned and delivered. With no service running, the board is computed here from the "
+        "configuration, and says so. Ctrl-C leaves.",
+    )
+    parser.add_argument("--once", action="store_true", help="print one frame and exit")
+    parser.add_argument("--at", metavar="ISO-8601",
+                        help='with --once: the instant to show, with "Z" or an offset, '
+                        "e.g. 2026-12-14T22:30:00Z")
+    parser.add_argument("--hz", type=float, metavar="N",
+                        help="clock redraws per second, more than 0 and at most 10 "
+                        "(default: [view] refresh_hz)")
+    parser.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Show the board; 0 when left with Ctrl-C or after --once, 1 for bad input, 2 for misuse."""
+    import os
+
+    if args.at and not args.once:
+        print("siderod watch: --at needs --once (the live board always shows the present); "
+              "try: siderod watch --once --at 2026-12-14T22:30:00Z", file=sys.stderr)
+        return _EXIT_USAGE
+    if args.hz is not None and not 0.0 < args.hz <= 10.0:
+        print(f"siderod watch: --hz must be more than 0 and at most 10, got {args.hz:g}", file=sys.stderr)
+        return _EXIT_USAGE
+
+    from siderod.view.theme import make_console
+
+    console = make_console(os.environ)
+    if args.once or not console.is_terminal:
+        if not args.once:
+            print("siderod watch: standard output is not a terminal, so one frame is printed "
+                  "(use --once to say so, or run it in a terminal for the live board)", file=sys.stderr)
+        return _print_once(args, console)
+    return _run_live(args, console)
+
+
+def _print_once(args: argparse.Namespace, console: Any) -> int:
+    import os
+    from datetime import UTC, datetime
+
+    from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
+    from siderod.astro.timescales import parse_iso_datetime
+    from siderod.view.board import inputs_from_config, render_board
+
+    snapshot = None
+    if args.at:
+        try:
+            now_utc = parse_iso_datetime(args.at).astimezone(UTC)
+        except ValueError as exc:
+            print(f"siderod watch: --at: {exc}", file=sys.stderr)
+            return _EXIT_BAD_INPUT
+        source = "computed here for --at"
+    else:
+        now_utc = datetime.now(UTC)  # the CLI edge reads the wall clock once, here
+        snapshot, source = _ask_service(os.environ)
+    config = _load_config(args, snapshot, now_utc)
+    from siderod.clockhealth import read_clock_health
+
+    inputs = inputs_from_config(
+        config,
+        now_utc,
+        snapshot=snapshot,
+        source=source,
+        clock_health=None if snapshot is not None or args.at else read_clock_health(),
+        leap_known_good_until=BUILTIN_LEAP_TABLE.known_good_until_utc,
+    )
+    width = console.size.width
+    # On a terminal, leave a line for the prompt; into a file or pipe, every target is printed.
+    height = console.size.height - 1 if console.is_terminal else None
+    console.print(render_board(inputs, width, height), crop=True)
+    return _EXIT_OK
+
+
+def _run_live(args: argparse.Namespace, console: Any) -> int:
+    import asyncio
+    import os
+    from datetime import UTC, datetime
+
+    from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
+    from siderod.clock import SystemClock
+    from siderod.clockhealth import read_clock_health
+    from siderod.paths import resolve_paths
+    from siderod.service.control import request_once
+    from siderod.service.protocol import snapshot_from_json
+    from siderod.view.live import BoardFeed, run_live
+
+    snapshot, source = _ask_service(os.environ)
+    config = _load_config(args, snapshot, datetime.now(UTC))
+    socket_path = resolve_paths(os.environ).socket_path
+
+    async def get_snapshot() -> Any:
+        result = await asyncio.to_thread(request_once, socket_path, {"op": "status"})
+        return snapshot_from_json(result)
+
+    feed = BoardFeed(
+        lambda: config,
+        get_snapshot=get_snapshot if snapshot is not None else None,
+        get_clock_health=read_clock_health,
+        leap_known_good_until=BUILTIN_LEAP_TABLE.known_good_until_utc,
+        source=source,
+    )
+    hz = args.hz if args.hz is not None else config.view.refresh_hz
+
+    async def main() -> None:
+        try:
+            await run_live(SystemClock(), feed.inputs_at, console, min(hz, 10.0))
+        finally:
+            await feed.close()
+
+    try:
+        asyncio.run(main())
+    except KeyboardInterrupt:
+        pass  # Ctrl-C is how one leaves; the view has already restored the terminal
+    return _EXIT_OK
+
+
+def _ask_service(env: Any) -> tuple[Any, str]:
+    """(snapshot, source note), or (None, why the board is computed here)."""
+    from siderod.errors import ServiceNotRunning, SiderodError
+    from siderod.paths import resolve_paths
+    from siderod.service.control import request_once
+    from siderod.service.protocol import snapshot_from_json
+
+    socket_path = resolve_paths(env).socket_path
+    try:
+        return snapshot_from_json(request_once(socket_path, {"op": "status"})), "from the service"
+    except ServiceNotRunning:
+        return None, "computed here, no service"
+    except SiderodError as exc:
+        return None, f"computed here, service unreadable: {exc}"
+
+
+def _load_config(args: argparse.Namespace, snapshot: Any, now_utc: Any) -> Any:
+    """The file given, else the one the running service uses, else the usual search."""
+    from siderod.config import load_config
+
+    explicit = getattr(args, "config", None)
+    if explicit is None and snapshot is not None and snapshot.config_path:
+        explicit = snapshot.config_path
+    return load_config(explicit, None, at_unix=now_utc.timestamp())
