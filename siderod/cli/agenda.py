@@ -1,0 +1,243 @@
+"""`siderod agenda`: the events of the coming window as a table, as JSON, or as an iCalendar file."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from typing import Any
+
+__all__ = ["JSON_FIELDS", "PROGRESS_MIN_TARGETS", "format_ics", "register", "run"]
+
+#: Top-level fields of ``siderod agenda --json`` (stable; documented in the README).
+JSON_FIELDS = ("site", "timezone", "start_utc", "end_utc", "dut1_seconds", "events", "classification",
+               "dark_intervals")
+#: Show a progress bar (on a terminal) from this many targets up.
+PROGRESS_MIN_TARGETS = 20000
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:
+    """Add ``agenda`` to the command line."""
+    parser = subparsers.add_parser(
+        "agenda",
+        help="list the coming culminations, crossings, flips, twilights and Moon events",
+        description="List every event of a time window for the configured site and targets, sorted by "
+        "time, in the site's local time and UTC.",
+    )
+    parser.add_argument("--from", dest="start", metavar="ISO-8601",
+                        help='window start with "Z" or an offset, e.g. 2026-12-14T12:00:00Z (default: now)')
+    parser.add_argument("--hours", type=float, metavar="N",
+                        help="window length in hours (default: [events] window_hours, usually 24)")
+    parser.add_argument("--target", action="append", metavar="NAME",
+                        help="only this target (repeatable); Sun and Moon events are kept")
+    parser.add_argument("--kind", action="append", metavar="KIND",
+                        help="only this event kind (repeatable), e.g. culmination, flip-due, "
+                        "astronomical-dusk")
+    parser.add_argument("--json", action="store_true", help="print one JSON object (fields in the README)")
+    parser.add_argument("--ics", metavar="FILE", help="also write the events as an iCalendar (RFC 5545) file")
+    parser.set_defaults(func=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Compute and print; 0 on success, 1 for bad input (time, kind, target, configuration)."""
+    import json
+    import os
+    import time
+
+    from siderod.astro.timescales import parse_iso_datetime
+    from siderod.config import load_config
+    from siderod.model import EventKind
+
+    if args.start:
+        try:
+            start_utc = parse_iso_datetime(args.start)
+        except ValueError as exc:
+            print(f"siderod agenda: --from: {exc}", file=sys.stderr)
+            return 1
+    else:
+        from datetime import UTC, datetime
+
+        start_utc = datetime.fromtimestamp(time.time(), UTC)  # the CLI edge reads the clock once
+    if args.hours is not None and not args.hours > 0:
+        print(f"siderod agenda: --hours: expected a positive number of hours, got {args.hours:g}",
+              file=sys.stderr)
+        return 1
+    kinds = None
+    if args.kind:
+        valid = {k.value: k for k in EventKind}
+        bad = [k for k in args.kind if k not in valid]
+        if bad:
+            print(f"siderod agenda: --kind: unknown kind {', '.join(repr(b) for b in bad)}; choose from: "
+                  + ", ".join(valid), file=sys.stderr)
+            return 1
+        kinds = {valid[k] for k in args.kind}
+
+    config = load_config(getattr(args, "config", None), os.environ, at_unix=start_utc.timestamp())
+    if config.is_demo and not args.json:
+        print("siderod: no configuration given, so the bundled demo is used (Corrie Hill Observatory, an "
+              "invented site); see `siderod check`.", file=sys.stderr)
+    try:
+        agenda = _compute(config, start_utc, args, kinds)
+    except ValueError as exc:
+        print(f"siderod agenda: {exc}", file=sys.stderr)
+        return 1
+
+    if args.ics:
+        text = format_ics(agenda, config, stamp_utc=start_utc)
+        try:
+            with open(args.ics, "w", encoding="utf-8", newline="") as handle:
+                handle.write(text)
+        except OSError as exc:
+            print(f"siderod agenda: --ics: cannot write {args.ics!r}: {exc.strerror or exc}", file=sys.stderr)
+            return 1
+    if args.json:
+        json.dump(_agenda_json(agenda, config), sys.stdout, indent=2)
+        sys.stdout.write("\n")
+    else:
+        _print_table(agenda, config)
+    return 0
+
+
+def _compute(config, start_utc, args, kinds):
+    from siderod.agenda import compute_agenda
+
+    count = len(config.targets) if not args.target else len(args.target)
+    if count < PROGRESS_MIN_TARGETS or not sys.stderr.isatty():
+        return compute_agenda(config, start_utc, args.hours, targets=args.target, kinds=kinds)
+    from rich.progress import Progress
+
+    with Progress(transient=True) as bar:
+        task = bar.add_task("computing events", total=count)
+
+        def progress(done: int, total: int) -> None:
+            bar.update(task, completed=done, total=total)
+
+        return compute_agenda(config, start_utc, args.hours, targets=args.target, kinds=kinds,
+                              progress=progress)
+
+
+def _agenda_json(agenda, config) -> dict[str, Any]:
+    from siderod.agenda import event_to_json
+
+    def iso(dt):
+        return dt.strftime("%Y-%m-%dT%H:%M:%SZ")
+
+    return {
+        "site": config.site.name,
+        "timezone": config.site.timezone,
+        "start_utc": iso(agenda.start_utc),
+        "end_utc": iso(agenda.end_utc),
+        "dut1_seconds": config.time.dut1_seconds,
+        "events": [event_to_json(e) for e in agenda.events],
+        "classification": dict(agenda.classification),
+        "dark_intervals": {name: [[iso(a), iso(b)] for a, b in spans]
+                           for name, spans in agenda.dark_intervals.items()},
+    }
+
+
+def _describe(event) -> str:
+    """A short note for the table and the calendar: the kind-specific value."""
+    from siderod.model import EventKind
+
+    kind = event.kind
+    if kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION):
+        return "usable" if event.usable else "below its limit"
+    if kind in (EventKind.HOUR_ANGLE, EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT):
+        text = f"HA {event.mark_hours:+.2f} h"
+        if kind is EventKind.TRACKING_LIMIT:
+            text += " - check the mount's own limits"
+        return text
+    if kind in (EventKind.MOONRISE, EventKind.MOONSET) and event.moon_illuminated_fraction is not None:
+        return f"{event.moon_illuminated_fraction * 100:.0f}% lit"
+    if event.threshold_deg is not None:
+        return f"through {event.threshold_deg:.1f}°"
+    return ""
+
+
+def _print_table(agenda, config) -> None:
+    from zoneinfo import ZoneInfo
+
+    from rich.console import Console
+    from rich.table import Table
+
+    zone = ZoneInfo(config.site.timezone)
+    table = Table(title=f"{config.site.name}: {agenda.start_utc:%Y-%m-%d %H:%M} UTC + "
+                  f"{(agenda.end_utc - agenda.start_utc).total_seconds() / 3600:g} h", title_justify="left")
+    for name, justify in (("Local", "left"), ("UTC", "left"), ("Event", "left"), ("Target", "left"),
+                          ("Alt°", "right"), ("Az°", "right"), ("HA h", "right"), ("Note", "left")):
+        table.add_column(name, justify=justify, no_wrap=name != "Note")
+    for e in agenda.events:
+        local = e.time_utc.astimezone(zone)
+        table.add_row(
+            local.strftime("%a %H:%M %Z"), e.time_utc.strftime("%H:%M:%S"), e.kind.value, e.target or "",
+            f"{e.altitude_deg:.1f}", f"{round(e.azimuth_deg, 1) % 360.0:.1f}",
+            "" if e.hour_angle_hours is None else f"{e.hour_angle_hours:+.2f}", _describe(e))
+    console = Console()
+    if not console.is_terminal:
+        console = Console(width=120)  # pipes and files get every column
+    console.print(table)
+    if not agenda.events:
+        console.print("No events in this window (check --target/--kind).")
+    rare = {name: c for name, c in agenda.classification.items() if c != "normal"}
+    if rare:
+        console.print("Whole window: " + "; ".join(f"{n} {c}" for n, c in sorted(rare.items())))
+
+
+# ---------------------------------------------------------------------------------------------
+# iCalendar (RFC 5545), written by hand: no runtime dependency
+
+
+def format_ics(agenda, config, *, stamp_utc) -> str:
+    """The agenda as an RFC 5545 VCALENDAR: one zero-length VEVENT per event, times in UTC.
+
+    UIDs are stable across runs (target, kind and time to the second), so re-importing updates
+    rather than duplicates. Lines use CRLF and are folded at 75 octets (RFC 5545 §3.1).
+
+    Args:
+        agenda: the computed agenda.
+        config: for the site name.
+        stamp_utc: DTSTAMP for every event (the window start keeps the output reproducible).
+
+    Returns:
+        str: the calendar text.
+    """
+    stamp = stamp_utc.strftime("%Y%m%dT%H%M%SZ")
+    lines = ["BEGIN:VCALENDAR", "VERSION:2.0", "PRODID:-//siderod//agenda//EN", "CALSCALE:GREGORIAN",
+             "METHOD:PUBLISH", "X-WR-CALNAME:" + _ics_text(f"siderod: {config.site.name}")]
+    for e in agenda.events:
+        when = e.time_utc.strftime("%Y%m%dT%H%M%SZ")
+        who = e.target or ("Moon" if e.kind.value.startswith("moon") else "Sun")
+        uid = f"{when}-{e.kind.value}-{_uid_safe(who)}@siderod"
+        summary = f"{who}: {e.kind.value}"
+        detail = (f"{e.kind.value} of {who} at {e.time_utc:%Y-%m-%d %H:%M:%S} UTC; altitude "
+                  f"{e.altitude_deg:.1f} deg, azimuth {round(e.azimuth_deg, 1) % 360.0:.1f} deg")
+        note = _describe(e)
+        if note:
+            detail += f"; {note}"
+        lines += ["BEGIN:VEVENT", f"UID:{uid}", f"DTSTAMP:{stamp}", f"DTSTART:{when}", f"DTEND:{when}",
+                  "SUMMARY:" + _ics_text(summary), "DESCRIPTION:" + _ics_text(detail),
+                  "LOCATION:" + _ics_text(config.site.name), "TRANSP:TRANSPARENT", "END:VEVENT"]
+    lines.append("END:VCALENDAR")
+    return "".join(_fold(line) + "\r\n" for line in lines)
+
+
+def _ics_text(value: str) -> str:
+    """Escape a TEXT value (RFC 5545 §3.3.11)."""
+    return (value.replace("\\", "\\\\").replace(";", "\\;").replace(",", "\\,").replace("\n", "\\n"))
+
+
+def _uid_safe(value: str) -> str:
+    return "".join(ch if ch.isalnum() or ch in "-_." else "-" for ch in value)
+
+
+def _fold(line: str) -> str:
+    """Fold a content line at 75 octets, never inside a UTF-8 sequence (RFC 5545 §3.1)."""
+    out, current, size = [], [], 0
+    for ch in line:
+        width = len(ch.encode("utf-8"))
+        if size + width > 75:
+            out.append("".join(current))
+            current, size = [" "], 1
+        current.append(ch)
+        size += width
+    out.append("".join(current))
+    return "\r\n".join(out)

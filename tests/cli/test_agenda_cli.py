@@ -1,0 +1,79 @@
+"""`siderod agenda` end to end on the bundled demo configuration: table, --json, --ics, errors."""
+
+import json
+
+import icalendar
+import pytest
+
+from siderod.cli.main import main
+
+DEMO_FROM = "2026-12-14T12:00:00Z"  # the demo night (RULES.md)
+
+
+@pytest.fixture(autouse=True)
+def _demo_config(monkeypatch, tmp_path):
+    # No user configuration anywhere: the bundled demo is used.
+    monkeypatch.delenv("SIDEROD_CONFIG", raising=False)
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(tmp_path / "config"))
+
+
+def test_json_has_the_documented_fields(capsys):
+    assert main(["agenda", "--from", DEMO_FROM, "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert {"site", "start_utc", "end_utc", "events", "classification", "dark_intervals"} <= set(data)
+    assert data["start_utc"] == DEMO_FROM
+    kinds = {e["kind"] for e in data["events"]}
+    assert {"culmination", "rise", "set", "flip-due", "sunset", "astronomical-dusk"} <= kinds
+    for event in data["events"]:
+        assert event["time_utc"].endswith("Z")
+        assert {"target", "altitude_deg", "azimuth_deg", "hour_angle_hours"} <= set(event)
+        if event["kind"] in ("sunset", "sunrise", "moonrise", "moonset"):
+            assert event["target"] is None
+    times = [e["time_utc"] for e in data["events"]]
+    assert times == sorted(times)
+
+
+def test_ics_parses_back_with_the_icalendar_library(tmp_path, capsys):
+    # Reference: the general-purpose `icalendar` package (PyPI) reads our hand-written RFC 5545 text.
+    path = tmp_path / "night.ics"
+    assert main(["agenda", "--from", DEMO_FROM, "--hours", "12", "--ics", str(path), "--json"]) == 0
+    events = json.loads(capsys.readouterr().out)["events"]
+    calendar = icalendar.Calendar.from_ical(path.read_bytes())
+    vevents = [c for c in calendar.walk() if c.name == "VEVENT"]
+    assert len(vevents) == len(events)
+    uids = {str(v["UID"]) for v in vevents}
+    assert len(uids) == len(vevents)
+    first = vevents[0]
+    assert first.decoded("DTSTART").strftime("%Y-%m-%dT%H:%M:%SZ") == events[0]["time_utc"][:19] + "Z"
+    assert "Corrie Hill Observatory" in str(first["LOCATION"])
+    raw = path.read_bytes()
+    assert b"\r\n" in raw and all(len(line) <= 75 for line in raw.split(b"\r\n"))
+
+
+def test_table_shows_local_time_across_the_dst_change(capsys):
+    # Europe/London leaves BST at 2026-10-25 01:00 UTC: the table shows both BST and GMT times.
+    assert main(["agenda", "--from", "2026-10-24T12:00:00Z", "--hours", "24", "--kind", "culmination"]) == 0
+    out = capsys.readouterr().out
+    assert "BST" in out and "GMT" in out and "culmination" in out
+
+
+def test_filters_by_target_and_kind(capsys):
+    assert main(["agenda", "--from", DEMO_FROM, "--json", "--target", "Vega", "--kind", "culmination",
+                 "--kind", "sunset"]) == 0
+    events = json.loads(capsys.readouterr().out)["events"]
+    assert {(e["target"], e["kind"]) for e in events} == {("Vega", "culmination"), (None, "sunset")}
+
+
+@pytest.mark.parametrize("argv, message", [
+    (["--from", "2026-12-14 12:00"], "--from"),
+    (["--kind", "transit"], "unknown kind 'transit'"),
+    (["--hours", "-2"], "--hours"),
+])
+def test_bad_input_exits_1_with_a_message(argv, message, capsys):
+    assert main(["agenda", *argv]) == 1
+    assert message in capsys.readouterr().err
+
+
+def test_unknown_target_exits_1_listing_the_configured_ones(capsys):
+    assert main(["agenda", "--from", DEMO_FROM, "--target", "Nope"]) == 1
+    assert "configured targets" in capsys.readouterr().err

@@ -1,0 +1,145 @@
+"""compute_agenda: records, filters, window edges, classifications and dark intervals."""
+
+from datetime import UTC, datetime, timedelta
+
+import pytest
+
+from siderod.agenda import compute_agenda, event_to_json
+from siderod.model import (
+    Config,
+    EventKind,
+    EventSettings,
+    Frame,
+    Mount,
+    MountKind,
+    Site,
+    Target,
+)
+
+#: The demo site (invented; RULES.md): Corrie Hill Observatory.
+SITE = Site("Corrie Hill Observatory", 56.0 + 12 / 60 + 30 / 3600, -(3.0 + 41 / 60 + 15 / 3600), 212.0,
+            "Europe/London", horizon=((0.0, 3.0), (90.0, 18.0), (205.0, 12.0), (225.0, 24.0), (315.0, 3.0)))
+DEMO_NIGHT = datetime(2026, 12, 14, 12, tzinfo=UTC)
+#: Events recomputed in a shifted window may move by round-off only.
+SAME_EVENT_SECONDS = 0.01
+
+
+def _target(name, ra_deg, dec_deg, **extra):
+    return Target(name=name, frame=Frame.ICRS, lon_deg=ra_deg, lat_deg=dec_deg, ra_deg=ra_deg,
+                  dec_deg=dec_deg, **extra)
+
+
+TARGETS = (
+    _target("Betelgeuse", 88.7929, 7.4071),   # rises and sets
+    _target("Capella", 79.1723, 45.9980),     # circumpolar above 10 deg at 56 N
+    _target("Sirius", 101.2872, -16.7161),    # low in the south, behind the 12-24 deg roof for a while
+    _target("Deep south", 100.0, -50.0),      # never rises
+    Target(name="Parked", frame=Frame.HADEC, lon_deg=0.0, lat_deg=41.0, ra_deg=None, dec_deg=41.0,
+           ha_hours=0.0),
+)
+
+
+def _config(**changes):
+    values = dict(path="test.toml", site=SITE, targets=TARGETS,
+                  events=EventSettings(min_altitude_deg=10.0, altitudes_deg=(30.0,),
+                                       hour_angles_hours=(-3.0,)),
+                  mount=Mount(MountKind.GERMAN_EQUATORIAL, flip_after_minutes=10.0, limit_after_minutes=25.0))
+    values.update(changes)
+    return Config(**values)
+
+
+def test_demo_night_has_every_kind_sorted_with_classifications():
+    agenda = compute_agenda(_config(), DEMO_NIGHT)
+    times = [e.time_utc for e in agenda.events]
+    assert times == sorted(times)
+    kinds = {e.kind for e in agenda.events}
+    assert {EventKind.CULMINATION, EventKind.LOWER_CULMINATION, EventKind.RISE, EventKind.SET,
+            EventKind.ALTITUDE_UP, EventKind.HOUR_ANGLE, EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT,
+            EventKind.SUNSET, EventKind.SUNRISE, EventKind.ASTRONOMICAL_DUSK,
+            EventKind.ASTRONOMICAL_DAWN} <= kinds
+    assert agenda.classification == {"Betelgeuse": "normal", "Capella": "circumpolar", "Sirius": "normal",
+                                     "Deep south": "never-rises", "Parked": "circumpolar"}
+    assert not any(e.target == "Parked" for e in agenda.events)
+    assert not any(e.target == "Deep south" and e.kind in (EventKind.RISE, EventKind.SET)
+                   for e in agenda.events)
+    # The night is one stretch: parked (always usable) gets exactly it; Capella too.
+    assert len(agenda.dark_intervals["Parked"]) == 1
+    assert agenda.dark_intervals["Capella"] == agenda.dark_intervals["Parked"]
+    assert agenda.dark_intervals["Deep south"] == ()
+
+
+def test_flip_and_limit_only_while_usable_and_only_for_a_german_mount():
+    agenda = compute_agenda(_config(), DEMO_NIGHT)
+    flips = [e for e in agenda.events if e.kind in (EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT)]
+    assert flips and all(e.usable and e.altitude_deg > 10.0 for e in flips)
+    assert not any(e.target == "Deep south" for e in flips)
+    other = compute_agenda(_config(mount=Mount(MountKind.FORK)), DEMO_NIGHT)
+    assert not any(e.kind in (EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT) for e in other.events)
+
+
+def test_rise_and_set_meet_the_profile_and_refraction_moves_them():
+    on = compute_agenda(_config(), DEMO_NIGHT, targets=["Sirius"], kinds={EventKind.RISE, EventKind.SET})
+    for e in on.events:
+        # Reported (refracted) altitude equals the usable limit at that azimuth.
+        assert e.altitude_deg == pytest.approx(e.threshold_deg, abs=0.002)
+    off = compute_agenda(_config(events=EventSettings(min_altitude_deg=10.0, refraction=False)), DEMO_NIGHT,
+                         targets=["Sirius"], kinds={EventKind.RISE, EventKind.SET})
+    assert len(on.events) == len(off.events) >= 2
+    first_on, first_off = on.events[0], off.events[0]
+    # Refraction lifts the star by ~5' near 10 deg: it reaches the limit earlier when rising (minutes).
+    assert first_on.kind is EventKind.RISE
+    assert timedelta(seconds=10) < first_off.time_utc - first_on.time_utc < timedelta(minutes=5)
+
+
+def test_back_to_back_windows_list_each_event_once():
+    whole = compute_agenda(_config(), DEMO_NIGHT, 24)
+    middle = whole.events[len(whole.events) // 2].time_utc
+    hours_a = (middle - DEMO_NIGHT).total_seconds() / 3600
+    first = compute_agenda(_config(), DEMO_NIGHT, hours_a)
+    second = compute_agenda(_config(), middle, 24 - hours_a)
+    joined = first.events + second.events
+    assert len(joined) == len(whole.events)
+    for a, b in zip(joined, whole.events, strict=True):
+        assert a.kind is b.kind and a.target == b.target
+        assert abs((a.time_utc - b.time_utc).total_seconds()) < SAME_EVENT_SECONDS
+
+
+def test_window_over_a_dst_change_is_plain_utc():
+    # Europe/London leaves summer time at 2026-10-25 01:00 UTC; the agenda works in UTC throughout,
+    # so a 24 h window has 24 real hours of events (one culmination per target, about).
+    start = datetime(2026, 10, 24, 12, tzinfo=UTC)
+    agenda = compute_agenda(_config(), start, 24, kinds={EventKind.CULMINATION})
+    assert sorted(e.target for e in agenda.events).count("Betelgeuse") == 1
+    assert all(start <= e.time_utc < start + timedelta(hours=24) for e in agenda.events)
+
+
+def test_june_night_at_56_north_has_no_astronomical_night():
+    # The Sun reaches only about -10.4 deg at midnight (56.2 + 23.4 - 90): no -12/-18 crossings.
+    agenda = compute_agenda(_config(), datetime(2026, 6, 21, 12, tzinfo=UTC), 24)
+    kinds = {e.kind for e in agenda.events}
+    assert EventKind.CIVIL_DUSK in kinds
+    assert not kinds & {EventKind.NAUTICAL_DUSK, EventKind.ASTRONOMICAL_DUSK, EventKind.ASTRONOMICAL_DAWN}
+    assert all(spans == () for spans in agenda.dark_intervals.values())
+
+
+def test_filters_and_errors():
+    agenda = compute_agenda(_config(), DEMO_NIGHT, 6, targets=["Capella"], kinds={EventKind.CULMINATION})
+    assert all(e.kind is EventKind.CULMINATION and e.target == "Capella" for e in agenda.events)
+    with pytest.raises(ValueError, match="configured targets: Betelgeuse"):
+        compute_agenda(_config(), DEMO_NIGHT, targets=["Nope"])
+    with pytest.raises(ValueError, match="timezone-aware"):
+        compute_agenda(_config(), datetime(2026, 12, 14, 12))
+    with pytest.raises(ValueError, match="positive"):
+        compute_agenda(_config(), DEMO_NIGHT, 0)
+
+
+def test_event_to_json_fields():
+    agenda = compute_agenda(_config(), DEMO_NIGHT, 12, targets=["Capella"],
+                            kinds={EventKind.CULMINATION, EventKind.MOONSET})
+    data = [event_to_json(e) for e in agenda.events]
+    assert {"time_utc", "target", "kind", "altitude_deg", "azimuth_deg", "hour_angle_hours", "threshold_deg",
+            "mark_hours", "usable", "moon_illuminated_fraction"} <= set(data[0])
+    culm = next(d for d in data if d["kind"] == "culmination")
+    assert culm["time_utc"].endswith("Z") and culm["target"] == "Capella" and culm["usable"] is True
+    moon = [d for d in data if d["kind"] == "moonset"]
+    assert all(d["target"] is None and 0 <= d["moon_illuminated_fraction"] <= 1 for d in moon)
