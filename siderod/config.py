@@ -17,6 +17,7 @@ from typing import Any
 
 from siderod.errors import ConfigError, ConfigErrors
 from siderod.model import (
+    COMMAND_PLACEHOLDERS,
     AlertRules,
     Config,
     EventKind,
@@ -71,7 +72,7 @@ FOUND_USER = "the user configuration file"
 FOUND_BUNDLED_DEMO = "bundled demo: no --config, no $SIDEROD_CONFIG, no user configuration file"
 
 #: Placeholders a ``[notify] command`` may use.
-NOTIFY_PLACEHOLDERS = ("title", "body", "target", "kind", "time_utc", "time_local", "lead_minutes")
+NOTIFY_PLACEHOLDERS = COMMAND_PLACEHOLDERS  # one list, in siderod.model
 
 #: Urgency of each event kind unless ``[alerts.urgency]`` says otherwise: a missed flip can drive
 #: a mount into its pier, so flip and limit alerts are critical.

@@ -33,7 +33,24 @@ __all__ = [
     "ServiceSnapshot",
     "TARGET_EVENT_KINDS",
     "SKY_EVENT_KINDS",
+    "COMMAND_PLACEHOLDERS",
 ]
+
+# What a `[notify] command` argument may contain, each filled per alert by the command channel
+# and checked by the configuration loader. Times are ISO 8601; `time_*` is the event's time.
+COMMAND_PLACEHOLDERS = (
+    "title",
+    "body",
+    "target",
+    "kind",
+    "urgency",
+    "time_utc",
+    "time_local",
+    "due_utc",
+    "lead_minutes",
+    "late_seconds",
+    "key",
+)
 
 
 class EventKind(enum.Enum):
@@ -310,7 +327,8 @@ class ServiceSnapshot:
     next_alerts: tuple[PlannedAlert, ...] = ()
     recent_deliveries: tuple[Delivery, ...] = ()
     channels: tuple[ChannelHealth, ...] = ()
-    muted: Mapping[str, datetime | None] = field(default_factory=dict)  # target -> until (None: until unmuted)
+    # target -> muted until (None: until unmuted)
+    muted: Mapping[str, datetime | None] = field(default_factory=dict)
     config_error: str = ""  # the last failed reload, if any
     missed_count: int = 0
     planned_count: int = 0

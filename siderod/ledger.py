@@ -1,0 +1,343 @@
+"""The alert ledger: an SQLite file (WAL mode) that makes every alert happen exactly once.
+
+Each planned alert is one row keyed by ``planner.alert_key`` and moves through
+
+    planned -> sending -> delivered          (or planned/sending -> missed)
+
+``claim`` is the single atomic step from planned to sending; each channel's success is written
+the moment that channel returns, before the next one is tried, and ``finish`` closes the row.
+After a crash, rows left in ``sending`` name exactly the channels that still owe the alert, so a
+restart re-sends only to those. The one window in which a repeat can happen is therefore
+between a channel accepting an alert and the ledger commit that follows it (one small SQLite
+write, typically well under a millisecond, see readme-service.md).
+
+Commits use ``synchronous=NORMAL``: in WAL mode that survives a killed process (the data is in the
+kernel's page cache) but not a power cut, which may lose the last few transactions.
+"""
+
+from __future__ import annotations
+
+import os
+import sqlite3
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from datetime import UTC, datetime
+from pathlib import Path
+
+from siderod.model import Delivery, PlannedAlert
+from siderod.planner import SKY_TARGET_NAME
+
+__all__ = ["Ledger", "LedgerRow", "EVENT_MATCH_SECONDS"]
+
+# Two agenda runs can place the same event a little apart (a different search window); rows
+# whose target, kind and lead agree and whose event times are this close are the same alert.
+# 5 s is far below the spacing of two real events of one kind for one target (hours).
+EVENT_MATCH_SECONDS = 5.0
+
+_SCHEMA_VERSION = "1"
+
+
+@dataclass(frozen=True, slots=True)
+class LedgerRow:
+    """One alert as the ledger knows it."""
+
+    key: str
+    target: str
+    kind: str
+    event_utc: datetime
+    lead_minutes: float
+    due_utc: datetime
+    title: str
+    body: str
+    urgency: str
+    state: str  # "planned" | "sending" | "delivered" | "missed"
+    late_seconds: float | None
+
+
+class Ledger:
+    """Planned and delivered alerts, by key, in one SQLite file.
+
+    Args:
+        path: the database file (created with its directory if missing), e.g.
+            ``paths.resolve_paths(os.environ).ledger_path``; ``":memory:"`` for a throwaway one.
+
+    Use from one thread (the service's event loop). Every method is one short transaction.
+    """
+
+    def __init__(self, path: str | os.PathLike[str]) -> None:
+        self.path = str(path)
+        if self.path != ":memory:":
+            Path(self.path).parent.mkdir(parents=True, exist_ok=True)
+        # isolation_level=None: autocommit; multi-statement writes use an explicit BEGIN IMMEDIATE.
+        self._db = sqlite3.connect(self.path, isolation_level=None, timeout=5.0)
+        self._db.execute("PRAGMA journal_mode=WAL")
+        self._db.execute("PRAGMA synchronous=NORMAL")
+        self._db.execute("PRAGMA busy_timeout=5000")
+        self._db.executescript(_SCHEMA)
+        self._db.execute(
+            "INSERT OR IGNORE INTO meta(name, value) VALUES ('schema_version', ?)", (_SCHEMA_VERSION,)
+        )
+
+    # -- lifecycle -------------------------------------------------------------------------
+    def close(self) -> None:
+        self._db.close()
+
+    def __enter__(self) -> Ledger:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    @property
+    def journal_mode(self) -> str:
+        return str(self._db.execute("PRAGMA journal_mode").fetchone()[0])
+
+    # -- planning --------------------------------------------------------------------------
+    def replace_planned(self, alerts: Iterable[PlannedAlert], now_utc: datetime) -> frozenset[str]:
+        """Make the plan the ledger holds equal to ``alerts``; return the keys still open.
+
+        Rows still ``planned`` that are not in ``alerts`` are dropped (the event moved, the target
+        was removed or muted); rows already sending, delivered or missed are never touched, and an
+        alert that matches one of them (same key, or same target, kind and lead with the event
+        within ``EVENT_MATCH_SECONDS``) is not planned again. Sweep overdue rows with
+        ``sweep_missed`` *before* calling this, or they vanish instead of being counted missed.
+
+        Returns:
+            The keys of ``alerts`` that are open (state ``planned``): the ones to schedule.
+        """
+        now_unix = now_utc.timestamp()
+        open_keys: set[str] = set()
+        with self._transaction():
+            self._db.execute("DELETE FROM alerts WHERE state = 'planned'")
+            for alert in alerts:
+                if self._settled_match(alert) is not None:
+                    continue
+                self._db.execute(
+                    "INSERT INTO alerts(key, target, kind, event_unix, lead_minutes, due_unix, title, body,"
+                    " urgency, state, updated_unix) VALUES (?,?,?,?,?,?,?,?,?, 'planned', ?)",
+                    (
+                        alert.key,
+                        alert.event.target or SKY_TARGET_NAME,
+                        alert.event.kind.value,
+                        alert.event.time_utc.timestamp(),
+                        alert.lead_minutes,
+                        alert.due_utc.timestamp(),
+                        alert.title,
+                        alert.body,
+                        alert.urgency.value,
+                        now_unix,
+                    ),
+                )
+                open_keys.add(alert.key)
+        return frozenset(open_keys)
+
+    def sweep_missed(self, before_utc: datetime, now_utc: datetime) -> tuple[LedgerRow, ...]:
+        """Mark every still-planned alert due before ``before_utc`` as missed and return them."""
+        with self._transaction():
+            rows = self._rows(
+                "WHERE state = 'planned' AND due_unix < ? ORDER BY due_unix, key", (before_utc.timestamp(),)
+            )
+            self._db.execute(
+                "UPDATE alerts SET state = 'missed', updated_unix = ?"
+                " WHERE state = 'planned' AND due_unix < ?",
+                (now_utc.timestamp(), before_utc.timestamp()),
+            )
+        return rows
+
+    # -- delivering ------------------------------------------------------------------------
+    def claim(self, key: str, now_utc: datetime) -> bool:
+        """Atomically move a planned alert to ``sending``. True for exactly one caller, ever."""
+        cursor = self._db.execute(
+            "UPDATE alerts SET state = 'sending', updated_unix = ? WHERE key = ? AND state = 'planned'",
+            (now_utc.timestamp(), key),
+        )
+        return cursor.rowcount == 1
+
+    def record_delivery(self, delivery: Delivery) -> None:
+        """Write one channel's outcome at once (the commit that closes the repeat window)."""
+        self._db.execute(
+            "INSERT INTO deliveries(key, channel, delivered_unix, late_seconds, ok, error, title)"
+            " VALUES (?,?,?,?,?,?,?)",
+            (
+                delivery.key,
+                delivery.channel,
+                delivery.delivered_utc.timestamp(),
+                delivery.late_seconds,
+                1 if delivery.ok else 0,
+                delivery.error,
+                delivery.title,
+            ),
+        )
+
+    def finish(self, key: str, now_utc: datetime, late_seconds: float) -> None:
+        """Close a claimed alert as delivered."""
+        self._db.execute(
+            "UPDATE alerts SET state = 'delivered', updated_unix = ?, late_seconds = ? WHERE key = ?",
+            (now_utc.timestamp(), late_seconds, key),
+        )
+
+    def mark_missed(self, key: str, now_utc: datetime) -> None:
+        self._db.execute(
+            "UPDATE alerts SET state = 'missed', updated_unix = ?"
+            " WHERE key = ? AND state IN ('planned', 'sending')",
+            (now_utc.timestamp(), key),
+        )
+
+    def channels_done(self, key: str) -> frozenset[str]:
+        """The channels that have accepted this alert."""
+        rows = self._db.execute("SELECT channel FROM deliveries WHERE key = ? AND ok = 1", (key,))
+        return frozenset(r[0] for r in rows)
+
+    def unfinished(self) -> tuple[LedgerRow, ...]:
+        """Alerts claimed but not closed: a previous run stopped while sending them."""
+        return self._rows("WHERE state = 'sending' ORDER BY due_unix, key", ())
+
+    # -- reading ---------------------------------------------------------------------------
+    def row(self, key: str) -> LedgerRow | None:
+        rows = self._rows("WHERE key = ?", (key,))
+        return rows[0] if rows else None
+
+    def rows(self, state: str | None = None) -> tuple[LedgerRow, ...]:
+        if state is None:
+            return self._rows("ORDER BY due_unix, key", ())
+        return self._rows("WHERE state = ? ORDER BY due_unix, key", (state,))
+
+    def recent_deliveries(self, limit: int = 20) -> tuple[Delivery, ...]:
+        """The latest channel outcomes, newest first."""
+        rows = self._db.execute(
+            "SELECT key, channel, delivered_unix, late_seconds, ok, error, title FROM deliveries"
+            " ORDER BY delivered_unix DESC, rowid DESC LIMIT ?",
+            (limit,),
+        ).fetchall()
+        return tuple(
+            Delivery(
+                key=r[0],
+                channel=r[1],
+                delivered_utc=datetime.fromtimestamp(r[2], UTC),
+                late_seconds=r[3],
+                ok=bool(r[4]),
+                error=r[5],
+                title=r[6],
+            )
+            for r in rows
+        )
+
+    def counts(self) -> Mapping[str, int]:
+        """Number of alerts in each state."""
+        return {s: n for s, n in self._db.execute("SELECT state, COUNT(*) FROM alerts GROUP BY state")}
+
+    def prune(self, before_utc: datetime) -> int:
+        """Forget closed alerts and deliveries older than ``before_utc``; return rows removed."""
+        cutoff = before_utc.timestamp()
+        with self._transaction():
+            n = self._db.execute(
+                "DELETE FROM alerts WHERE state IN ('delivered', 'missed') AND due_unix < ?", (cutoff,)
+            ).rowcount
+            self._db.execute("DELETE FROM deliveries WHERE delivered_unix < ?", (cutoff,))
+        return n
+
+    # -- mutes (kept here so a restart remembers them) -------------------------------------
+    def set_mute(self, target: str, until_utc: datetime | None) -> None:
+        until = None if until_utc is None else until_utc.timestamp()
+        self._db.execute("INSERT OR REPLACE INTO mutes(target, until_unix) VALUES (?, ?)", (target, until))
+
+    def clear_mute(self, target: str) -> bool:
+        return self._db.execute("DELETE FROM mutes WHERE target = ?", (target,)).rowcount > 0
+
+    def mutes(self, now_utc: datetime) -> dict[str, datetime | None]:
+        """Mutes still in force at ``now_utc`` (expired ones are removed)."""
+        self._db.execute(
+            "DELETE FROM mutes WHERE until_unix IS NOT NULL AND until_unix <= ?", (now_utc.timestamp(),)
+        )
+        return {
+            t: None if u is None else datetime.fromtimestamp(u, UTC)
+            for t, u in self._db.execute("SELECT target, until_unix FROM mutes ORDER BY target")
+        }
+
+    # -- helpers ---------------------------------------------------------------------------
+    def _transaction(self) -> _Transaction:
+        return _Transaction(self._db)
+
+    def _settled_match(self, alert: PlannedAlert) -> str | None:
+        t = alert.event.time_utc.timestamp()
+        row = self._db.execute(
+            "SELECT key FROM alerts WHERE (key = ? OR (target = ? AND kind = ? AND lead_minutes = ?"
+            " AND event_unix BETWEEN ? AND ?)) AND state != 'planned' LIMIT 1",
+            (
+                alert.key,
+                alert.event.target or SKY_TARGET_NAME,
+                alert.event.kind.value,
+                alert.lead_minutes,
+                t - EVENT_MATCH_SECONDS,
+                t + EVENT_MATCH_SECONDS,
+            ),
+        ).fetchone()
+        return None if row is None else str(row[0])
+
+    def _rows(self, where: str, params: tuple[object, ...]) -> tuple[LedgerRow, ...]:
+        cursor = self._db.execute(
+            "SELECT key, target, kind, event_unix, lead_minutes, due_unix, title, body, urgency, state,"
+            " late_seconds FROM alerts " + where,
+            params,
+        )
+        return tuple(
+            LedgerRow(
+                key=r[0],
+                target=r[1],
+                kind=r[2],
+                event_utc=datetime.fromtimestamp(r[3], UTC),
+                lead_minutes=r[4],
+                due_utc=datetime.fromtimestamp(r[5], UTC),
+                title=r[6],
+                body=r[7],
+                urgency=r[8],
+                state=r[9],
+                late_seconds=r[10],
+            )
+            for r in cursor.fetchall()
+        )
+
+
+class _Transaction:
+    """``BEGIN IMMEDIATE`` ... ``COMMIT`` (or ``ROLLBACK`` on an exception)."""
+
+    def __init__(self, db: sqlite3.Connection) -> None:
+        self._db = db
+
+    def __enter__(self) -> None:
+        self._db.execute("BEGIN IMMEDIATE")
+
+    def __exit__(self, exc_type: object, *rest: object) -> None:
+        self._db.execute("ROLLBACK" if exc_type is not None else "COMMIT")
+
+
+_SCHEMA = """
+CREATE TABLE IF NOT EXISTS meta (name TEXT PRIMARY KEY, value TEXT NOT NULL);
+CREATE TABLE IF NOT EXISTS alerts (
+    key TEXT PRIMARY KEY,
+    target TEXT NOT NULL,
+    kind TEXT NOT NULL,
+    event_unix REAL NOT NULL,
+    lead_minutes REAL NOT NULL,
+    due_unix REAL NOT NULL,
+    title TEXT NOT NULL DEFAULT '',
+    body TEXT NOT NULL DEFAULT '',
+    urgency TEXT NOT NULL DEFAULT 'normal',
+    state TEXT NOT NULL CHECK (state IN ('planned', 'sending', 'delivered', 'missed')),
+    updated_unix REAL NOT NULL,
+    late_seconds REAL
+);
+CREATE INDEX IF NOT EXISTS alerts_match ON alerts(target, kind, lead_minutes, event_unix);
+CREATE INDEX IF NOT EXISTS alerts_state_due ON alerts(state, due_unix);
+CREATE TABLE IF NOT EXISTS deliveries (
+    key TEXT NOT NULL,
+    channel TEXT NOT NULL,
+    delivered_unix REAL NOT NULL,
+    late_seconds REAL NOT NULL,
+    ok INTEGER NOT NULL,
+    error TEXT NOT NULL DEFAULT '',
+    title TEXT NOT NULL DEFAULT ''
+);
+CREATE INDEX IF NOT EXISTS deliveries_key ON deliveries(key, channel);
+CREATE TABLE IF NOT EXISTS mutes (target TEXT PRIMARY KEY, until_unix REAL);
+"""

@@ -1,0 +1,284 @@
+"""Pure planning: agenda events + alert rules + mutes -> the alerts the service intends to give.
+
+Nothing here reads the clock, touches files, SQLite, asyncio or D-Bus: the caller passes ``now_utc``
+and, when the Sun hold is configured, a function giving the Sun's altitude.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from datetime import UTC, datetime, timedelta
+from typing import Protocol
+from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
+
+from siderod.model import (
+    Config,
+    Event,
+    EventKind,
+    PlannedAlert,
+    Site,
+    Urgency,
+)
+
+__all__ = [
+    "plan_alerts",
+    "alert_key",
+    "parse_alert_key",
+    "format_alert",
+    "format_missed_summary",
+    "DEFAULT_URGENCY",
+    "SKY_TARGET_NAME",
+]
+
+# Kinds that warn of possible harm to equipment are critical unless [alerts] says otherwise
+# (common practice: a missed flip can drive the mount into its pier).
+DEFAULT_URGENCY: Mapping[EventKind, Urgency] = {
+    EventKind.FLIP_DUE: Urgency.CRITICAL,
+    EventKind.TRACKING_LIMIT: Urgency.CRITICAL,
+}
+
+# The name under which Sun, Moon and twilight events appear in keys and mutes.
+SKY_TARGET_NAME = "sky"
+
+
+class _AgendaLike(Protocol):
+    events: tuple[Event, ...]
+
+
+def plan_alerts(
+    agenda: _AgendaLike,
+    config: Config,
+    *,
+    muted: Mapping[str, datetime | None],
+    now_utc: datetime,
+    sun_altitude_deg: Callable[[Sequence[datetime]], Sequence[float]] | None = None,
+) -> tuple[PlannedAlert, ...]:
+    """Turn an agenda into the alerts to give, sorted by due time (then key).
+
+    Args:
+        agenda: anything with ``events`` (``siderod.agenda.Agenda``).
+        config: the whole configuration; ``alerts`` gives lead times, urgency, hold and grace,
+            each ``Target`` may override lead times or switch its alerts off.
+        muted: target name -> muted until (aware UTC), or None for "until unmuted". The name
+            ``"sky"`` mutes Sun, Moon and twilight alerts.
+        now_utc: the present (aware). Alerts due more than the grace period ago are left out:
+            they can no longer be given, and the ledger already knows the ones it planned.
+        sun_altitude_deg: the Sun's altitudes (degrees) at a sequence of aware UTC instants, in
+            one vectorised call. Needed only when ``alerts.hold_while_sun_above_deg`` is set; if
+            None the hold is not applied.
+
+    Returns:
+        PlannedAlert records with stable keys, sorted by ``due_utc`` then ``key``. Duplicate
+        keys (the same event found twice) appear once.
+
+    The Sun hold applies to target events only: sunset, twilight and Moon alerts are the ones an
+    observer asks for in daylight.
+    """
+    rules = config.alerts
+    grace = timedelta(minutes=rules.grace_minutes)
+    earliest_due_utc = now_utc - grace
+    targets = {t.name: t for t in config.targets}
+    candidates: dict[str, tuple[Event, float, datetime]] = {}
+    for event in agenda.events:
+        leads = _lead_minutes_for(event, targets, rules.lead_minutes)
+        mute_name = event.target if event.target is not None else SKY_TARGET_NAME
+        for lead in leads or ():
+            due_utc = event.time_utc - timedelta(minutes=lead)
+            if due_utc < earliest_due_utc or _is_muted(muted, mute_name, due_utc, now_utc):
+                continue
+            candidates.setdefault(alert_key(event, lead), (event, lead, due_utc))
+    held = _held_by_sun(candidates, rules.hold_while_sun_above_deg, sun_altitude_deg)
+    planned: dict[str, PlannedAlert] = {}
+    for key, (event, lead, due_utc) in candidates.items():
+        if key in held:
+            continue
+        title, body = format_alert(event, lead, config.site)
+        urgency = rules.urgency.get(event.kind, DEFAULT_URGENCY.get(event.kind, Urgency.NORMAL))
+        planned[key] = PlannedAlert(
+            key=key,
+            event=event,
+            lead_minutes=float(lead),
+            due_utc=due_utc,
+            urgency=urgency,
+            title=title,
+            body=body,
+        )
+    return tuple(sorted(planned.values(), key=lambda a: (a.due_utc, a.key)))
+
+
+def _held_by_sun(
+    candidates: Mapping[str, tuple[Event, float, datetime]],
+    hold_above_deg: float | None,
+    sun_altitude_deg: Callable[[Sequence[datetime]], Sequence[float]] | None,
+) -> set[str]:
+    # The hold applies to target events only: sunset, twilight and Moon alerts are the ones an
+    # observer asks for in daylight. One call for every due time keeps a re-plan of thousands
+    # of alerts cheap.
+    if hold_above_deg is None or sun_altitude_deg is None:
+        return set()
+    keys = [key for key, (event, _, _) in candidates.items() if event.target is not None]
+    if not keys:
+        return set()
+    altitudes = sun_altitude_deg([candidates[key][2] for key in keys])
+    return {key for key, alt in zip(keys, altitudes, strict=True) if float(alt) > hold_above_deg}
+
+
+def alert_key(event: Event, lead_minutes: float) -> str:
+    """The stable identity of one alert: ``target|kind|event time to the second|lead``.
+
+    >>> from siderod.model import Event, EventKind
+    >>> when = datetime(2026, 12, 14, 22, 3, 7, 600000, tzinfo=UTC)
+    >>> alert_key(Event(when, EventKind.FLIP_DUE, "M42", 40.0, 180.0), 10)
+    'M42|flip-due|2026-12-14T22:03:08Z|10'
+
+    The event time is rounded to the nearest second, so two agenda runs that find the same
+    event a few milliseconds apart give the same key in all but the rare case of straddling a
+    half second; the ledger also matches keys whose event times differ by a few seconds.
+    """
+    target = event.target if event.target is not None else SKY_TARGET_NAME
+    when = _round_to_second(event.time_utc).strftime("%Y-%m-%dT%H:%M:%SZ")
+    return f"{target}|{event.kind.value}|{when}|{_format_lead(lead_minutes)}"
+
+
+def parse_alert_key(key: str) -> tuple[str, str, datetime, float]:
+    """Split a key made by ``alert_key`` into (target, kind value, event time UTC, lead minutes).
+
+    Raises:
+        ValueError: the text is not a key made by ``alert_key``.
+    """
+    parts = key.rsplit("|", 3)
+    if len(parts) != 4:
+        raise ValueError(f"not an alert key (expected target|kind|time|lead): {key!r}")
+    target, kind, when, lead = parts
+    event_utc = datetime.strptime(when, "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=UTC)
+    return target, kind, event_utc, float(lead)
+
+
+def format_alert(event: Event, lead_minutes: float, site: Site) -> tuple[str, str]:
+    """The notification title and body for one alert.
+
+    The title names the target and the event and says how soon; the body gives the event time
+    in the site's local time and in UTC, the hour angle and the altitude.
+    """
+    what = _EVENT_PHRASES[event.kind].format(
+        target=event.target or "",
+        threshold=_format_deg(event.threshold_deg),
+        mark=_format_hour_angle(event.mark_hours),
+    )
+    if lead_minutes > 0:
+        title = f"{what} in {_format_lead(lead_minutes)} min"
+    else:
+        title = f"{what} now"
+    local_text = _format_local(event.time_utc, site.timezone)
+    lines = [
+        f"At {local_text} ({_round_to_second(event.time_utc).strftime('%H:%M:%S')} UTC)",
+    ]
+    if event.hour_angle_hours is not None:
+        lines.append(f"Hour angle {_format_hour_angle(event.hour_angle_hours)}")
+    lines.append(f"Altitude {event.altitude_deg:.1f}°, azimuth {event.azimuth_deg:.1f}°")
+    if event.kind in (EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT):
+        lines.append("Advisory only: the mount's own limits must be set.")
+    if event.kind is EventKind.SUNRISE:
+        lines.append("Cover or park unfiltered optics before the Sun is up.")
+    return title, "\n".join(lines)
+
+
+def format_missed_summary(titles: Iterable[str], grace_minutes: float) -> tuple[str, str]:
+    """Title and body of the one notification that summarises alerts missed beyond their grace."""
+    titles = list(titles)
+    count = len(titles)
+    plural = "s" if count != 1 else ""
+    title = f"{count} alert{plural} missed (more than {_format_lead(grace_minutes)} min late)"
+    shown = titles[:_SUMMARY_LINES]
+    body = "\n".join(shown)
+    if count > len(shown):
+        body += f"\n... and {count - len(shown)} more (see the log)"
+    return title, body
+
+
+# -- helpers, in the order they are called ---------------------------------------------------
+
+
+def _lead_minutes_for(
+    event: Event, targets: Mapping[str, object], global_leads: Mapping[EventKind, tuple[float, ...]]
+) -> tuple[float, ...]:
+    if event.target is None:
+        return tuple(global_leads.get(event.kind, ()))
+    target = targets.get(event.target)
+    if target is None:
+        return ()  # an event for a target the config no longer has
+    if not target.alerts_enabled:
+        return ()
+    if target.lead_minutes is not None and event.kind in target.lead_minutes:
+        return tuple(target.lead_minutes[event.kind])
+    return tuple(global_leads.get(event.kind, ()))
+
+
+def _is_muted(muted: Mapping[str, datetime | None], name: str, due_utc: datetime, now_utc: datetime) -> bool:
+    if name not in muted:
+        return False
+    until_utc = muted[name]
+    if until_utc is None:
+        return True
+    return until_utc > now_utc and due_utc < until_utc
+
+
+def _round_to_second(when_utc: datetime) -> datetime:
+    when_utc = when_utc.astimezone(UTC)
+    whole = when_utc.replace(microsecond=0)
+    if when_utc.microsecond >= 500_000:
+        whole += timedelta(seconds=1)
+    return whole
+
+
+def _format_lead(minutes: float) -> str:
+    return f"{minutes:g}"
+
+
+def _format_deg(value: float | None) -> str:
+    return "" if value is None else f"{value:g}°"
+
+
+def _format_hour_angle(hours: float | None) -> str:
+    if hours is None or not math.isfinite(hours):
+        return ""
+    sign = "-" if hours < 0 else "+"
+    total_seconds = round(abs(hours) * 3600)
+    h, rest = divmod(total_seconds, 3600)
+    m, s = divmod(rest, 60)
+    return f"{sign}{h:d}h{m:02d}m{s:02d}s"
+
+
+def _format_local(when_utc: datetime, timezone_name: str) -> str:
+    try:
+        zone = ZoneInfo(timezone_name)
+    except (ZoneInfoNotFoundError, ValueError):
+        zone = UTC
+    local = _round_to_second(when_utc).astimezone(zone)
+    return local.strftime("%H:%M:%S %Z on %a %d %b")
+
+
+_EVENT_PHRASES: Mapping[EventKind, str] = {
+    EventKind.CULMINATION: "{target} culminates",
+    EventKind.LOWER_CULMINATION: "{target} at lower culmination",
+    EventKind.RISE: "{target} rises above {threshold}",
+    EventKind.SET: "{target} sets below {threshold}",
+    EventKind.ALTITUDE_UP: "{target} climbs through {threshold}",
+    EventKind.ALTITUDE_DOWN: "{target} sinks through {threshold}",
+    EventKind.HOUR_ANGLE: "{target} reaches hour angle {mark}",
+    EventKind.FLIP_DUE: "{target}: meridian flip due",
+    EventKind.TRACKING_LIMIT: "{target}: tracking limit",
+    EventKind.SUNSET: "Sunset",
+    EventKind.SUNRISE: "Sunrise",
+    EventKind.CIVIL_DUSK: "Civil twilight ends",
+    EventKind.NAUTICAL_DUSK: "Nautical twilight ends",
+    EventKind.ASTRONOMICAL_DUSK: "Astronomical night begins",
+    EventKind.ASTRONOMICAL_DAWN: "Astronomical night ends",
+    EventKind.NAUTICAL_DAWN: "Nautical dawn",
+    EventKind.CIVIL_DAWN: "Civil dawn",
+    EventKind.MOONRISE: "Moonrise",
+    EventKind.MOONSET: "Moonset",
+}
+
+_SUMMARY_LINES = 12  # titles listed in a missed-alert summary before "... and N more"

@@ -1,0 +1,753 @@
+"""The service: plan alerts on a rolling horizon, fire them on time, deliver each exactly once.
+
+Wiring, in the order ``run()`` does it: load the configuration, open the ledger, take the control
+socket (and with it the single-instance lock), re-send anything a previous run left half-sent,
+make the first plan, tell systemd READY=1, then run the supervised tasks in one TaskGroup:
+
+- the delivery worker (the only task that sends; alerts go out one after another, in due order),
+- the clock watch (suspend or step -> wake the scheduler and re-plan),
+- the re-plan timer, the configuration file watch, the retry loop for failed channels,
+- the systemd watchdog pinger and the clock-health check.
+
+An exception in any of them ends the TaskGroup and leaves ``run()``: the service stops loudly and
+systemd restarts it. Channel failures are not exceptions here: they are recorded, shown in
+``status`` and retried.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import contextlib
+import logging
+import os
+import signal
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+from datetime import UTC, datetime, timedelta
+from typing import Any
+
+from siderod.clock import Clock
+from siderod.errors import ControlError, SiderodError
+from siderod.ledger import Ledger, LedgerRow
+from siderod.model import (
+    ClockHealth,
+    Config,
+    Delivery,
+    PlannedAlert,
+    ServiceSnapshot,
+    Urgency,
+)
+from siderod.planner import SKY_TARGET_NAME, format_missed_summary, plan_alerts
+from siderod.service.anomaly import ClockAnomaly, ClockWatch
+from siderod.service.delivery import (
+    AlertMessage,
+    Channel,
+    ChannelFailed,
+    ChannelHealthBook,
+    build_channels,
+    message_for_alert,
+)
+from siderod.service.scheduling import Scheduler, SchedulerFactory
+
+__all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS"]
+
+log = logging.getLogger("siderod.service")
+
+# An alert this much after its due time is marked late in its title: under half a minute an alert
+# is as good as on time to an observer at the telescope (common practice, our judgement).
+LATE_MARK_SECONDS = 30.0
+# How often a failed channel is tried again with the alerts it still owes (within their grace).
+RETRY_SECONDS = 30.0
+# How often the kernel's clock-synchronisation state is read again.
+CLOCK_HEALTH_SECONDS = 600.0
+# Upcoming alerts listed in a snapshot, and recent deliveries.
+SNAPSHOT_ALERTS = 20
+# Closed ledger rows older than this are forgotten at start-up.
+LEDGER_KEEP_DAYS = 14
+# A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
+STOP_WAIT_SECONDS = 15.0
+
+# agenda_source(config, start_utc, hours) -> Agenda (siderod.agenda.compute_agenda by default)
+AgendaSource = Callable[[Config, datetime, float], Any]
+
+
+@dataclass(frozen=True, slots=True)
+class _Retry:
+    message: AlertMessage
+    channel: str
+    give_up_utc: datetime
+
+
+class _StopRequested(Exception):
+    """Raised inside the TaskGroup to end it after a requested stop."""
+
+
+class Service:
+    """One running siderod service.
+
+    Args:
+        config_loader: returns a whole, validated Config or raises ConfigErrors; called at start and
+            on every reload (``lambda: load_config(args.config, os.environ)`` in the CLI).
+        clock: the only source of time (SystemClock, or FakeClock in tests).
+        scheduler_factory: builds the Scheduler from the on-due callback; None gives the APScheduler
+            adapter with the configured grace.
+        channels: fixed channels (tests); None builds them from ``[notify]`` and rebuilds on reload.
+        paths: anything with ``ledger_path``, ``socket_path`` and ``lock_path`` (``paths.Paths``).
+        ledger_path: overrides ``paths.ledger_path``; one of the two is required.
+        agenda_source: computes the agenda; None uses ``siderod.agenda.compute_agenda``.
+        control: serve the control socket (needs ``paths``).
+        env: the environment for sd_notify (``os.environ`` when None).
+        anomaly_period_seconds: monotonic seconds between clock checks.
+        file_poll_seconds: monotonic seconds between configuration file checks (0: no watch).
+        offload_planning: compute the agenda in a worker thread so the loop stays responsive.
+            Tests under FakeClock pass False so that simulated time cannot run on meanwhile.
+        boot_seconds: CLOCK_BOOTTIME reader to tell a suspend from a step (None: cannot tell).
+        clock_health_reader: returns ClockHealth; None uses ``siderod.clockhealth``.
+        sun_altitude_deg: Sun altitude at a UTC instant for the hold rule; None computes it with
+            ``siderod.positions`` when that is available.
+    """
+
+    def __init__(
+        self,
+        config_loader: Callable[[], Config],
+        clock: Clock,
+        scheduler_factory: SchedulerFactory | None = None,
+        channels: Sequence[Channel] | None = None,
+        paths: Any = None,
+        *,
+        ledger_path: str | os.PathLike[str] | None = None,
+        agenda_source: AgendaSource | None = None,
+        control: bool = True,
+        env: Mapping[str, str] | None = None,
+        anomaly_period_seconds: float = 2.0,
+        file_poll_seconds: float = 5.0,
+        offload_planning: bool = True,
+        boot_seconds: Callable[[], float] | None = None,
+        clock_health_reader: Callable[[], ClockHealth] | None = None,
+        sun_altitude_deg: Callable[[datetime], float] | None = None,
+    ) -> None:
+        if ledger_path is None and paths is None:
+            raise ValueError("Service needs paths (from siderod.paths.resolve_paths) or ledger_path")
+        self._config_loader = config_loader
+        self._clock = clock
+        self._scheduler_factory = scheduler_factory
+        self._fixed_channels = list(channels) if channels is not None else None
+        self._paths = paths
+        self._ledger_path = str(ledger_path if ledger_path is not None else paths.ledger_path)
+        self._agenda_source = agenda_source
+        self._control_wanted = control and paths is not None
+        self._env = os.environ if env is None else env
+        self._anomaly_period_seconds = anomaly_period_seconds
+        self._file_poll_seconds = file_poll_seconds
+        self._offload_planning = offload_planning
+        self._boot_seconds = boot_seconds
+        self._clock_health_reader = clock_health_reader
+        self._sun_altitude_override = sun_altitude_deg
+
+        self.config: Config | None = None
+        self.config_error = ""
+        self.started_utc: datetime | None = None
+        self.clock_health = ClockHealth(state="unknown", detail="not read yet")
+        self.anomalies: list[ClockAnomaly] = []
+        self._ledger: Ledger | None = None
+        self._scheduler: Scheduler | None = None
+        self._channels: list[Channel] = []
+        self._health = ChannelHealthBook()
+        self._plan: dict[str, PlannedAlert] = {}  # open alerts of the current plan, by key
+        self._mutes: dict[str, datetime | None] = {}
+        self._queue: asyncio.Queue[str] = asyncio.Queue()
+        self._missed_titles: list[str] = []
+        self._retries: list[_Retry] = []
+        self._plan_lock = asyncio.Lock()
+        self._sending = asyncio.Lock()
+        self._stop = asyncio.Event()
+        self._reload_asked = asyncio.Event()
+        self._ready = asyncio.Event()
+        self._file_stamps: dict[str, tuple[int, int] | None] = {}
+        self._sun_altitude: Callable[[datetime], float] | None = None
+        self._service_message_count = 0
+
+    # -- public API ----------------------------------------------------------------------------
+    async def run(self, *, install_signal_handlers: bool = False) -> None:
+        """Run until ``request_stop()`` (or SIGTERM with ``install_signal_handlers``).
+
+        Raises:
+            ConfigErrors: the configuration is invalid at start-up (nothing was started).
+            ServiceAlreadyRunning: another instance holds the lock.
+            Exception: anything unexpected from a supervised task, after a clean shutdown.
+        """
+        self.started_utc = self._clock.now_utc()
+        self.config = self._config_loader()  # invalid at start: raise, nothing else to fall back on
+        self._sun_altitude = self._sun_altitude_override or _sun_altitude_function(self.config)
+        fixed = self._fixed_channels
+        self._channels = fixed if fixed is not None else build_channels(self.config)
+        loop = asyncio.get_running_loop()
+        async with contextlib.AsyncExitStack() as stack:
+            if self._control_wanted:
+                from siderod.service.control import ControlServer
+
+                # Taken first: the lock keeps a second instance from touching the ledger or socket.
+                await stack.enter_async_context(
+                    ControlServer(self._paths.socket_path, self.handle_request, self._paths.lock_path)
+                )
+            self._ledger = Ledger(self._ledger_path)
+            stack.callback(self._ledger.close)
+            self._ledger.prune(self._clock.now_utc() - timedelta(days=LEDGER_KEEP_DAYS))
+            self._mutes = self._ledger.mutes(self._clock.now_utc())
+            self._scheduler = self._make_scheduler()
+            await self._scheduler.start()
+            stack.push_async_callback(self._scheduler.shutdown)
+            stack.push_async_callback(self._close_channels)
+            if install_signal_handlers:
+                loop.add_signal_handler(signal.SIGTERM, self.request_stop)
+                loop.add_signal_handler(signal.SIGINT, self.request_stop)
+                loop.add_signal_handler(signal.SIGHUP, self.request_reload)
+                stack.callback(_remove_signal_handlers, loop)
+            self._read_clock_health()
+            self._file_stamps = self._stat_files()
+            await self._recover_unfinished()
+            await self.replan("start")
+            self._notify("READY=1\n" + self._status_line())
+            self._ready.set()
+            log.info("siderod service running: config %s, ledger %s", self.config.path, self._ledger_path)
+            try:
+                async with asyncio.TaskGroup() as tasks:
+                    tasks.create_task(self._delivery_worker(), name="delivery")
+                    watch = ClockWatch(
+                        self._clock,
+                        self._on_anomaly,
+                        period_seconds=self._anomaly_period_seconds,
+                        boot_seconds=self._boot_seconds,
+                    )
+                    tasks.create_task(watch.run(), name="clock-watch")
+                    tasks.create_task(self._replan_timer(), name="replan-timer")
+                    tasks.create_task(self._retry_loop(), name="retry")
+                    tasks.create_task(self._reload_listener(), name="reload")
+                    tasks.create_task(self._clock_health_loop(), name="clock-health")
+                    if self._file_poll_seconds > 0:
+                        tasks.create_task(self._file_watch(), name="file-watch")
+                    tasks.create_task(self._watchdog(), name="watchdog")
+                    tasks.create_task(self._stopper(), name="stopper")
+            except* _StopRequested:
+                pass
+            finally:
+                self._notify("STOPPING=1")
+                log.info("siderod service stopping")
+
+    async def wait_ready(self) -> None:
+        """Wait until the first plan is made (tests and the CLI's live view use this)."""
+        await self._ready.wait()
+
+    def request_stop(self) -> None:
+        """Ask for a graceful stop: the alert being sent finishes, then everything closes."""
+        self._stop.set()
+
+    def request_reload(self) -> None:
+        """Ask for a configuration reload (what SIGHUP does)."""
+        self._reload_asked.set()
+
+    async def handle_request(self, request: Any) -> Mapping[str, Any]:
+        """Serve one control request (``protocol.Request``: op, target, for_seconds).
+
+        Raises:
+            ControlError: the request cannot be done; the message says why (sent to the peer).
+        """
+        op = str(getattr(request, "op", ""))
+        if op == "status":
+            from siderod.service.protocol import snapshot_to_json
+
+            return snapshot_to_json(self.snapshot())
+        if op == "mute":
+            target = self._known_target(request.target)
+            until_utc = None
+            if request.for_seconds is not None:
+                until_utc = self._clock.now_utc() + timedelta(seconds=float(request.for_seconds))
+            await self.mute(target, until_utc)
+            return {"target": target, "until_utc": None if until_utc is None else _iso(until_utc)}
+        if op == "unmute":
+            target = str(request.target)
+            was_muted = await self.unmute(target)
+            return {"target": target, "was_muted": was_muted}
+        if op == "reload":
+            ok = await self.reload("control request", always_announce=True)
+            path = self.config.path if self.config else ""
+            return {"reloaded": ok, "config_path": path, "error": self.config_error}
+        if op == "test-alert":
+            return {"channels": await self.send_test_alert()}
+        raise ControlError(f"unknown request {op!r}; expected status, mute, unmute, reload or test-alert")
+
+    def snapshot(self) -> ServiceSnapshot:
+        """Everything ``status`` and the live view show, built fresh."""
+        now_utc = self._clock.now_utc()
+        config = self.config
+        if config is None or self._ledger is None:
+            raise SiderodError("the service has not started yet")
+        upcoming = sorted(self._plan.values(), key=lambda a: (a.due_utc, a.key))
+        counts = self._ledger.counts()
+        return ServiceSnapshot(
+            taken_utc=now_utc,
+            started_utc=self.started_utc or now_utc,
+            config_path=config.path,
+            site=config.site,
+            dut1_seconds=config.time.dut1_seconds,
+            dut1_source=config.time.dut1_source,
+            clock_health=self.clock_health,
+            next_alerts=tuple(upcoming[:SNAPSHOT_ALERTS]),
+            recent_deliveries=self._ledger.recent_deliveries(SNAPSHOT_ALERTS),
+            channels=self._health.snapshot([c.name for c in self._channels]),
+            muted=dict(self._mutes),
+            config_error=self.config_error,
+            missed_count=counts.get("missed", 0),
+            planned_count=len(self._plan),
+        )
+
+    async def mute(self, target: str, until_utc: datetime | None) -> None:
+        """Mute a target (``"sky"``: Sun, Moon and twilight alerts) until a time, or until unmuted."""
+        assert self._ledger is not None
+        self._ledger.set_mute(target, until_utc)
+        self._mutes = self._ledger.mutes(self._clock.now_utc())
+        log.info("muted %s %s", target, "until unmuted" if until_utc is None else f"until {_iso(until_utc)}")
+        await self.replan("mute")
+
+    async def unmute(self, target: str) -> bool:
+        assert self._ledger is not None
+        was_muted = self._ledger.clear_mute(target)
+        self._mutes = self._ledger.mutes(self._clock.now_utc())
+        if was_muted:
+            log.info("unmuted %s", target)
+            await self.replan("unmute")
+        return was_muted
+
+    async def reload(self, reason: str, *, always_announce: bool = False) -> bool:
+        """Load the configuration again and swap it in whole, or keep the last good one.
+
+        An invalid configuration gives one log line and one alert naming the problem; the same
+        problem found again by the file watch is not announced again (``always_announce`` makes a
+        SIGHUP or ``siderod reload`` announce it each time).
+
+        Returns:
+            True if the new configuration is in use.
+        """
+        self._notify("RELOADING=1")
+        try:
+            new_config = self._config_loader()
+        except (SiderodError, OSError) as exc:
+            text = str(exc)
+            repeat = text == self.config_error
+            self.config_error = text
+            self._file_stamps = self._stat_files()
+            if always_announce or not repeat:
+                one_line = " ".join(text.split())
+                log.error("configuration not reloaded (%s); keeping the last good one: %s", reason, one_line)
+                await self._send_service_message(
+                    "siderod: configuration not reloaded",
+                    f"{_first_lines(text, 6)}\nStill using the last good configuration.",
+                    Urgency.NORMAL,
+                )
+            self._notify("READY=1\n" + self._status_line())
+            return False
+        old_config, self.config = self.config, new_config
+        self.config_error = ""
+        self._file_stamps = self._stat_files()
+        if self._sun_altitude_override is None:
+            self._sun_altitude = _sun_altitude_function(new_config)
+        if self._fixed_channels is None and (old_config is None or old_config.notify != new_config.notify):
+            await self._close_channels()
+            self._channels = build_channels(new_config)
+        log.info("configuration reloaded (%s) from %s", reason, new_config.path)
+        await self.replan("reload")
+        self._notify("READY=1\n" + self._status_line())
+        return True
+
+    async def send_test_alert(self) -> dict[str, str]:
+        """Send one test message through every channel; return channel -> "ok" or the error."""
+        now_utc = self._clock.now_utc()
+        message = AlertMessage(
+            key=f"test|{_iso(now_utc)}",
+            title="siderod test alert",
+            body=f"Sent at {_iso(now_utc)} through every channel. No action needed.",
+            urgency=Urgency.NORMAL,
+        )
+        results = await asyncio.gather(*(self._send_one(c, message) for c in self._channels))
+        return {c.name: r for c, r in zip(self._channels, results, strict=True)}
+
+    async def replan(self, reason: str) -> None:
+        """Sweep missed alerts, compute the agenda for the horizon and hand the open alerts out."""
+        assert self.config is not None and self._ledger is not None and self._scheduler is not None
+        async with self._plan_lock:
+            config = self.config
+            now_utc = self._clock.now_utc()
+            grace = timedelta(minutes=config.alerts.grace_minutes)
+            for row in self._ledger.sweep_missed(now_utc - grace, now_utc):
+                self._note_missed(row.title, row.due_utc)
+            start_utc = now_utc - grace
+            hours = config.alerts.horizon_hours + grace.total_seconds() / 3600.0
+            agenda = await self._compute_agenda(config, start_utc, hours)
+            self._mutes = self._ledger.mutes(now_utc)
+            planned = plan_alerts(
+                agenda, config, muted=self._mutes, now_utc=now_utc, sun_altitude_deg=self._sun_altitude
+            )
+            now_utc = self._clock.now_utc()  # the agenda may have taken a while
+            open_keys = self._ledger.replace_planned(planned, now_utc)
+            self._plan = {a.key: a for a in planned if a.key in open_keys}
+            due_now = [a for a in self._plan.values() if a.due_utc <= now_utc]
+            self._scheduler.replace_jobs([a for a in self._plan.values() if a.due_utc > now_utc])
+            for alert in sorted(due_now, key=lambda a: (a.due_utc, a.key)):
+                self._queue.put_nowait(alert.key)
+            if self._missed_titles:
+                self._queue.put_nowait(_SUMMARY)
+            log.info(
+                "planned %d alerts to %s (%s); %d due now",
+                len(self._plan),
+                _iso(now_utc + timedelta(hours=config.alerts.horizon_hours)),
+                reason,
+                len(due_now),
+            )
+        self._notify(self._status_line())
+
+    # -- delivery ------------------------------------------------------------------------------
+    def _on_due(self, key: str) -> None:
+        self._queue.put_nowait(key)
+
+    async def _delivery_worker(self) -> None:
+        while True:
+            key = await self._queue.get()
+            async with self._sending:
+                if key != _SUMMARY:
+                    await self._deliver(key)
+                if self._queue.empty() and self._missed_titles:
+                    await self._send_missed_summary()
+            self._notify(self._status_line())
+
+    async def _deliver(self, key: str) -> None:
+        assert self.config is not None and self._ledger is not None and self._scheduler is not None
+        alert = self._plan.get(key)
+        if alert is None:
+            return  # re-planned away (muted, moved, already done) after it was queued
+        now_utc = self._clock.now_utc()
+        late_seconds = (now_utc - alert.due_utc).total_seconds()
+        if late_seconds < 0:
+            # Only after a backward clock step can a timer fire before the wall-clock due time.
+            log.info("alert %s fired %.1f s early (clock stepped back?); rescheduled", key, -late_seconds)
+            self._scheduler.replace_jobs([a for a in self._plan.values() if a.due_utc > now_utc])
+            return
+        grace_seconds = self.config.alerts.grace_minutes * 60.0
+        if late_seconds > grace_seconds:
+            self._ledger.mark_missed(key, now_utc)
+            del self._plan[key]
+            self._note_missed(alert.title, alert.due_utc)
+            return
+        if not self._ledger.claim(key, now_utc):
+            self._plan.pop(key, None)
+            return
+        del self._plan[key]
+        message = message_for_alert(alert, late_seconds, late_mark_seconds=LATE_MARK_SECONDS)
+        give_up_utc = alert.due_utc + timedelta(seconds=grace_seconds)
+        await self._send_claimed(message, frozenset(), give_up_utc)
+        self._ledger.finish(key, self._clock.now_utc(), late_seconds)
+
+    async def _send_claimed(self, message: AlertMessage, done: frozenset[str], give_up_utc: datetime) -> None:
+        """Send one claimed alert on every channel that still owes it, all at once."""
+        sends = []
+        for channel in self._channels:
+            if channel.name in done:
+                continue
+            if not self._health.is_healthy(channel.name):
+                # Keep the worker quick while a channel is down: the retry loop probes it.
+                self._retries.append(_Retry(message, channel.name, give_up_utc))
+                continue
+            sends.append(channel)
+        results = await asyncio.gather(*(self._send_one(c, message) for c in sends))
+        for channel, result in zip(sends, results, strict=True):
+            if result != "ok":
+                self._retries.append(_Retry(message, channel.name, give_up_utc))
+
+    async def _send_one(self, channel: Channel, message: AlertMessage) -> str:
+        """Send on one channel and write the outcome to the ledger at once. Never raises."""
+        try:
+            await channel.send(message)
+        except ChannelFailed as exc:
+            error = str(exc)
+        except Exception as exc:  # a bug in one channel must not stop the others or the service
+            log.exception("channel %s failed unexpectedly", channel.name)
+            error = f"unexpected {type(exc).__name__}: {exc}"
+        else:
+            now_utc = self._clock.now_utc()
+            if not self._health.is_healthy(channel.name):
+                log.info("channel %s works again", channel.name)
+            self._health.ok(channel.name, now_utc)
+            self._record(message, channel.name, now_utc, ok=True)
+            return "ok"
+        now_utc = self._clock.now_utc()
+        if self._health.failed(channel.name, error):
+            log.warning("channel %s failed; other channels still deliver; retrying every %g s: %s",
+                        channel.name, RETRY_SECONDS, error)
+        self._record(message, channel.name, now_utc, ok=False, error=error)
+        return error
+
+    def _record(
+        self, message: AlertMessage, channel: str, now_utc: datetime, *, ok: bool, error: str = ""
+    ) -> None:
+        assert self._ledger is not None
+        self._ledger.record_delivery(
+            Delivery(
+                key=message.key,
+                channel=channel,
+                delivered_utc=now_utc,
+                late_seconds=message.late_seconds,
+                ok=ok,
+                error=error,
+                title=message.title,
+            )
+        )
+
+    def _note_missed(self, title: str, due_utc: datetime) -> None:
+        log.warning("alert missed (more than the grace period late): %s (due %s)", title, _iso(due_utc))
+        self._missed_titles.append(f"{title} (due {due_utc.strftime('%H:%M')} UTC)")
+
+    async def _send_missed_summary(self) -> None:
+        assert self.config is not None
+        titles, self._missed_titles = self._missed_titles, []
+        title, body = format_missed_summary(titles, self.config.alerts.grace_minutes)
+        await self._send_service_message(title, body, Urgency.NORMAL)
+
+    async def _send_service_message(self, title: str, body: str, urgency: Urgency) -> None:
+        """A message that is not a planned alert (missed summary, config error): healthy channels only."""
+        self._service_message_count += 1
+        message = AlertMessage(
+            key=f"service|{_iso(self._clock.now_utc())}|{self._service_message_count}",
+            title=title,
+            body=body,
+            urgency=urgency,
+        )
+        channels = [c for c in self._channels if self._health.is_healthy(c.name) or c.name == "log"]
+        await asyncio.gather(*(self._send_one(c, message) for c in channels))
+
+    async def _recover_unfinished(self) -> None:
+        """Finish what a previous run claimed but did not close (it was killed while sending)."""
+        assert self.config is not None and self._ledger is not None
+        now_utc = self._clock.now_utc()
+        grace = timedelta(minutes=self.config.alerts.grace_minutes)
+        for row in self._ledger.unfinished():
+            late_seconds = (now_utc - row.due_utc).total_seconds()
+            if now_utc - row.due_utc > grace:
+                self._ledger.mark_missed(row.key, now_utc)
+                self._note_missed(row.title, row.due_utc)
+                continue
+            done = self._ledger.channels_done(row.key)
+            log.warning("resending %s after a restart to channels that had not taken it (had: %s)",
+                        row.key, ", ".join(sorted(done)) or "none")
+            await self._send_claimed(_message_from_row(row, late_seconds), done, row.due_utc + grace)
+            self._ledger.finish(row.key, self._clock.now_utc(), late_seconds)
+
+    async def _retry_loop(self) -> None:
+        while True:
+            await self._clock.sleep(RETRY_SECONDS)
+            if not self._retries:
+                continue
+            async with self._sending:
+                pending, self._retries = self._retries, []
+                now_utc = self._clock.now_utc()
+                channels = {c.name: c for c in self._channels}
+                for retry in pending:
+                    channel = channels.get(retry.channel)
+                    if channel is None:
+                        continue  # removed by a reload
+                    if now_utc > retry.give_up_utc:
+                        log.warning(
+                            "gave up sending %s on %s: past its grace", retry.message.key, retry.channel
+                        )
+                        continue
+                    if await self._send_one(channel, retry.message) != "ok":
+                        self._retries.append(retry)
+
+    # -- watching time, files and health -----------------------------------------------------
+    async def _on_anomaly(self, anomaly: ClockAnomaly) -> None:
+        self.anomalies.append(anomaly)
+        assert self._scheduler is not None
+        self._scheduler.wake()
+        await self.replan(f"clock {anomaly.kind} {anomaly.jump_seconds:+.0f} s")
+
+    async def _replan_timer(self) -> None:
+        assert self.config is not None
+        while True:
+            await self._clock.sleep(self.config.alerts.replan_minutes * 60.0)
+            await self.replan("timer")
+
+    async def _reload_listener(self) -> None:
+        while True:
+            await self._reload_asked.wait()
+            self._reload_asked.clear()
+            await self.reload("SIGHUP", always_announce=True)
+
+    async def _file_watch(self) -> None:
+        while True:
+            await self._clock.sleep(self._file_poll_seconds)
+            stamps = self._stat_files()
+            if stamps != self._file_stamps:
+                changed = [p for p in stamps if stamps.get(p) != self._file_stamps.get(p)]
+                self._file_stamps = stamps
+                await self.reload("file changed: " + ", ".join(changed))
+
+    def _stat_files(self) -> dict[str, tuple[int, int] | None]:
+        if self.config is None:
+            return {}
+        stamps: dict[str, tuple[int, int] | None] = {}
+        for name in (self.config.path, *self.config.target_files):
+            try:
+                st = os.stat(name)
+            except OSError:
+                stamps[name] = None
+            else:
+                stamps[name] = (st.st_mtime_ns, st.st_size)
+        return stamps
+
+    async def _watchdog(self) -> None:
+        from siderod.service.sdnotify import watchdog_interval_seconds
+
+        interval = watchdog_interval_seconds(self._env)
+        if interval is None:
+            await self._stop.wait()
+            return
+        while True:
+            # Sent from the event loop, so a wedged loop stops the pings and systemd restarts us.
+            self._notify("WATCHDOG=1")
+            await self._clock.sleep(interval)
+
+    async def _clock_health_loop(self) -> None:
+        while True:
+            await self._clock.sleep(CLOCK_HEALTH_SECONDS)
+            self._read_clock_health()
+
+    def _read_clock_health(self) -> None:
+        try:
+            if self._clock_health_reader is not None:
+                health = self._clock_health_reader()
+            else:
+                from siderod.clockhealth import format_clock_warning, read_clock_health
+
+                health = read_clock_health()
+                warning = format_clock_warning(health)
+                if warning and warning != getattr(self, "_last_clock_warning", None):
+                    log.warning("clock: %s", warning)
+                self._last_clock_warning = warning
+        except (ImportError, OSError) as exc:
+            health = ClockHealth(state="unknown", detail=f"cannot read: {exc}")
+        self.clock_health = health
+
+    async def _stopper(self) -> None:
+        await self._stop.wait()
+        try:
+            # Let the alert being sent finish and reach the ledger: a cancelled send is the one
+            # thing that could make the next start resend it.
+            await asyncio.wait_for(self._sending.acquire(), STOP_WAIT_SECONDS)
+        except TimeoutError:
+            log.warning("stopping while an alert is still being sent; the next start finishes it")
+        raise _StopRequested
+
+    # -- helpers -------------------------------------------------------------------------------
+    def _make_scheduler(self) -> Scheduler:
+        if self._scheduler_factory is not None:
+            return self._scheduler_factory(self._on_due)
+        from siderod.service.scheduling import APSchedulerAdapter
+
+        assert self.config is not None
+        return APSchedulerAdapter(self._on_due, misfire_grace_seconds=self.config.alerts.grace_minutes * 60.0)
+
+    async def _compute_agenda(self, config: Config, start_utc: datetime, hours: float) -> Any:
+        source = self._agenda_source
+        if source is None:
+            from siderod.agenda import compute_agenda
+
+            def source(c: Config, s: datetime, h: float) -> Any:
+                return compute_agenda(c, s, h)
+
+        if self._offload_planning:
+            return await asyncio.to_thread(source, config, start_utc, hours)
+        return source(config, start_utc, hours)
+
+    async def _close_channels(self) -> None:
+        for channel in self._channels:
+            try:
+                await channel.close()
+            except Exception:
+                log.debug("closing channel %s failed", channel.name, exc_info=True)
+
+    def _known_target(self, name: Any) -> str:
+        assert self.config is not None
+        names = [t.name for t in self.config.targets]
+        if name in names or name == SKY_TARGET_NAME:
+            return str(name)
+        shown = ", ".join(names[:10]) + (" ..." if len(names) > 10 else "")
+        raise ControlError(
+            f"no target named {name!r} in {self.config.path}; use a target name ({shown}) or"
+            f" {SKY_TARGET_NAME!r} for Sun, Moon and twilight alerts"
+        )
+
+    def _status_line(self) -> str:
+        if not self._plan:
+            return "STATUS=no alerts planned"
+        first = min(self._plan.values(), key=lambda a: (a.due_utc, a.key))
+        return f"STATUS=next alert {first.due_utc.strftime('%H:%M:%S')} UTC: {first.title}"
+
+    def _notify(self, message: str) -> None:
+        try:
+            from siderod.service.sdnotify import notify
+        except ImportError:
+            return
+        notify(message, self._env)
+
+
+_SUMMARY = "\x00summary"  # queue marker: send the missed-alert summary once the queue drains
+
+
+def _message_from_row(row: LedgerRow, late_seconds: float) -> AlertMessage:
+    title, body = row.title, row.body
+    if late_seconds > LATE_MARK_SECONDS:
+        title = f"[late {late_seconds / 60:.0f} min] {title}"
+    return AlertMessage(
+        key=row.key,
+        title=title,
+        body=body,
+        urgency=Urgency(row.urgency),
+        late_seconds=late_seconds,
+        target=row.target,
+        kind=row.kind,
+        event_utc=row.event_utc,
+        due_utc=row.due_utc,
+        lead_minutes=row.lead_minutes,
+    )
+
+
+def _sun_altitude_function(config: Config) -> Callable[[Sequence[datetime]], Sequence[float]] | None:
+    """The Sun's altitude at many instants in one call, for the planner's hold rule."""
+    if config.alerts.hold_while_sun_above_deg is None:
+        return None
+    from siderod.astro.sunmoon import observe_sun
+    from siderod.astro.timescales import instants_from_unix
+    from siderod.positions import observer_for
+
+    observer = observer_for(config)
+
+    def sun_alt_deg(when_utc: Sequence[datetime]) -> Sequence[float]:
+        unix = [moment.timestamp() for moment in when_utc]
+        instants = instants_from_unix(unix, dut1_seconds=config.time.dut1_seconds)
+        return observe_sun(instants, observer).alt_deg.tolist()
+
+    return sun_alt_deg
+
+
+def _remove_signal_handlers(loop: asyncio.AbstractEventLoop) -> None:
+    for sig in (signal.SIGTERM, signal.SIGINT, signal.SIGHUP):
+        loop.remove_signal_handler(sig)
+
+
+def _first_lines(text: str, count: int) -> str:
+    lines = text.splitlines()
+    shown = "\n".join(lines[:count])
+    return shown + (f"\n... {len(lines) - count} more lines in the log" if len(lines) > count else "")
+
+
+def _iso(when: datetime) -> str:
+    return when.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+

@@ -1,0 +1,343 @@
+"""Where alerts go: the desktop (D-Bus notifications), the log, and an optional command hook.
+
+A channel's ``send`` either returns (the alert was accepted) or raises ``ChannelFailed``; it
+never hangs, because every outside call is bounded by a timeout. Health bookkeeping lives in
+``ChannelHealthBook`` so that a failed channel shows in ``siderod status`` and is retried, while
+the other channels carry on.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import logging
+import os
+import signal
+import string
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from datetime import datetime
+from typing import Any, Protocol
+from zoneinfo import ZoneInfo
+
+from siderod.model import COMMAND_PLACEHOLDERS, ChannelHealth, Config, PlannedAlert, Urgency
+
+__all__ = [
+    "Channel",
+    "ChannelFailed",
+    "AlertMessage",
+    "message_for_alert",
+    "DesktopChannel",
+    "LogChannel",
+    "CommandChannel",
+    "ChannelHealthBook",
+    "build_channels",
+    "COMMAND_PLACEHOLDERS",
+]
+
+log = logging.getLogger("siderod.delivery")
+alert_log = logging.getLogger("siderod.alert")
+
+
+class ChannelFailed(Exception):
+    """A channel could not deliver; the message says why and what to check."""
+
+
+@dataclass(frozen=True, slots=True)
+class AlertMessage:
+    """What a channel shows: one alert, or a service message (missed summary, config error, test)."""
+
+    key: str
+    title: str
+    body: str
+    urgency: Urgency
+    late_seconds: float = 0.0
+    target: str = ""
+    kind: str = ""
+    event_utc: datetime | None = None
+    due_utc: datetime | None = None
+    lead_minutes: float | None = None
+
+
+def message_for_alert(alert: PlannedAlert, late_seconds: float, *, late_mark_seconds: float) -> AlertMessage:
+    """The message for a planned alert; a late one says so in its title and body."""
+    title, body = alert.title, alert.body
+    if late_seconds > late_mark_seconds:
+        late_text = _format_late(late_seconds)
+        title = f"[late {late_text}] {title}"
+        body = f"Delivered {late_text} after it was due (the computer was asleep or the clock moved).\n{body}"
+    return AlertMessage(
+        key=alert.key,
+        title=title,
+        body=body,
+        urgency=alert.urgency,
+        late_seconds=late_seconds,
+        target=alert.event.target or "",
+        kind=alert.event.kind.value,
+        event_utc=alert.event.time_utc,
+        due_utc=alert.due_utc,
+        lead_minutes=alert.lead_minutes,
+    )
+
+
+class Channel(Protocol):
+    name: str
+
+    async def send(self, message: AlertMessage) -> None:
+        """Deliver or raise ChannelFailed. Must return within a bounded time."""
+
+    async def close(self) -> None:
+        """Release connections and processes."""
+
+
+class LogChannel:
+    """Every alert as one log line (journald keeps it). Always on, never fails."""
+
+    name = "log"
+
+    async def send(self, message: AlertMessage) -> None:
+        level = logging.WARNING if message.urgency is Urgency.CRITICAL else logging.INFO
+        body = message.body.replace("\n", " | ")
+        alert_log.log(level, "ALERT %s: %s -- %s", message.key, message.title, body)
+
+    async def close(self) -> None:
+        return None
+
+
+class DesktopChannel:
+    """Desktop notifications through desktop-notifier (D-Bus on Linux).
+
+    desktop-notifier swallows every error (it logs a warning and returns), and its only success
+    signal is ``on_dispatched``; an already-connected notifier can wait forever on a hung
+    notification server. So each send is bounded by ``send_timeout_seconds``, success means
+    ``on_dispatched`` fired, and after any failure the notifier is closed and rebuilt.
+
+    Args:
+        app_name: the application name the notification server shows.
+        send_timeout_seconds: the longest one send may take.
+    """
+
+    name = "desktop"
+
+    def __init__(self, *, app_name: str = "siderod", send_timeout_seconds: float = 5.0) -> None:
+        self._app_name = app_name
+        self._send_timeout_seconds = send_timeout_seconds
+        self._notifier: Any = None
+
+    async def send(self, message: AlertMessage) -> None:
+        from desktop_notifier import DesktopNotifier
+        from desktop_notifier import Urgency as NotifierUrgency
+
+        if self._notifier is None:
+            self._notifier = DesktopNotifier(app_name=self._app_name, app_icon=None)
+        urgency = {
+            Urgency.LOW: NotifierUrgency.Low,
+            Urgency.NORMAL: NotifierUrgency.Normal,
+            Urgency.CRITICAL: NotifierUrgency.Critical,
+        }[message.urgency]
+        dispatched = asyncio.Event()
+        captured = _CapturedWarnings()
+        # desktop-notifier logs each failure with a full traceback; keep it for our one-line
+        # error (ChannelFailed, shown in status) instead of letting it flood the journal.
+        backend_log = logging.getLogger("desktop_notifier")
+        backend_log.addHandler(captured)
+        backend_log.propagate = False
+        try:
+            await asyncio.wait_for(
+                self._notifier.send(
+                    message.title, message.body, urgency=urgency, on_dispatched=dispatched.set
+                ),
+                self._send_timeout_seconds,
+            )
+        except TimeoutError:
+            await self._drop_notifier()
+            raise ChannelFailed(
+                f"the notification server did not answer within {self._send_timeout_seconds:g} s"
+                " (is it hung? the alert went to the other channels)"
+            ) from None
+        except Exception as exc:  # desktop-notifier normally swallows these; be safe if not
+            await self._drop_notifier()
+            raise ChannelFailed(f"desktop notification failed: {exc!r}") from exc
+        finally:
+            backend_log.removeHandler(captured)
+            backend_log.propagate = True
+        if not dispatched.is_set():
+            await self._drop_notifier()
+            reason = captured.text() or "no reason given"
+            raise ChannelFailed(
+                f"desktop notification not accepted: {reason} (check DBUS_SESSION_BUS_ADDRESS and that a"
+                " notification server runs)"
+            )
+
+    async def close(self) -> None:
+        await self._drop_notifier()
+
+    async def _drop_notifier(self) -> None:
+        notifier, self._notifier = self._notifier, None
+        bus = getattr(getattr(notifier, "_backend", None), "bus", None)
+        if bus is not None:
+            try:
+                bus.disconnect()
+                await asyncio.wait_for(bus.wait_for_disconnect(), 1.0)
+            except Exception:  # a broken bus may fail to close; it is being thrown away anyway
+                log.debug("closing the old D-Bus connection failed", exc_info=True)
+
+
+# Placeholders the command hook may use in its argv, e.g. ["notify-phone", "{title}", "{body}"].
+
+
+class CommandChannel:
+    """Run a user command for every alert: argv with ``{placeholders}``, no shell, a timeout.
+
+    The command's output (stdout and stderr, first ``_OUTPUT_LIMIT_BYTES``) is logged. A
+    non-zero exit, a timeout or a missing program is a failure.
+    """
+
+    name = "command"
+
+    def __init__(self, argv: Sequence[str], *, timeout_seconds: float = 10.0, timezone: str = "UTC") -> None:
+        if not argv:
+            raise ValueError("CommandChannel needs a non-empty argv")
+        self._argv = tuple(argv)
+        self._timeout_seconds = timeout_seconds
+        self._zone = ZoneInfo(timezone)
+
+    def argv_for(self, message: AlertMessage) -> list[str]:
+        """The argv with placeholders filled in (each element stays one argument)."""
+        values = {
+            "key": message.key,
+            "title": message.title,
+            "body": message.body,
+            "urgency": message.urgency.value,
+            "target": message.target,
+            "kind": message.kind,
+            "time_utc": _iso(message.event_utc),
+            "time_local": _local_iso(message.event_utc, self._zone),
+            "due_utc": _iso(message.due_utc),
+            "lead_minutes": "" if message.lead_minutes is None else f"{message.lead_minutes:g}",
+            "late_seconds": f"{message.late_seconds:.0f}",
+        }
+        out = []
+        for part in self._argv:
+            try:
+                out.append(string.Formatter().vformat(part, (), values))
+            except (KeyError, IndexError, ValueError) as exc:
+                raise ChannelFailed(
+                    f"command argument {part!r} has a bad placeholder ({exc}); use one of "
+                    + ", ".join("{" + p + "}" for p in COMMAND_PLACEHOLDERS)
+                    + " (double braces {{ }} for a literal brace)"
+                ) from None
+        return out
+
+    async def send(self, message: AlertMessage) -> None:
+        argv = self.argv_for(message)
+        try:
+            process = await asyncio.create_subprocess_exec(
+                *argv,
+                stdin=asyncio.subprocess.DEVNULL,
+                stdout=asyncio.subprocess.PIPE,
+                stderr=asyncio.subprocess.STDOUT,
+                start_new_session=True,  # so a timeout can kill the command and its children
+            )
+        except OSError as exc:
+            raise ChannelFailed(f"cannot run {argv[0]!r}: {exc.strerror or exc}") from None
+        try:
+            output, _ = await asyncio.wait_for(process.communicate(), self._timeout_seconds)
+        except TimeoutError:
+            _kill_group(process)
+            await process.wait()
+            raise ChannelFailed(
+                f"{argv[0]!r} did not finish within {self._timeout_seconds:g} s; it was killed"
+            ) from None
+        text = output[:_OUTPUT_LIMIT_BYTES].decode("utf-8", "replace").strip()
+        if text:
+            log.info("command hook %s said: %s", argv[0], text.replace("\n", " | "))
+        if process.returncode != 0:
+            raise ChannelFailed(f"{argv[0]!r} exited with status {process.returncode}")
+
+    async def close(self) -> None:
+        return None
+
+
+class ChannelHealthBook:
+    """The health of each channel, as ``ChannelHealth`` records for the snapshot."""
+
+    def __init__(self) -> None:
+        self._health: dict[str, ChannelHealth] = {}
+
+    def ok(self, name: str, when_utc: datetime) -> None:
+        self._health[name] = ChannelHealth(name=name, healthy=True, last_ok_utc=when_utc)
+
+    def failed(self, name: str, error: str) -> bool:
+        """Record a failure; return True if the channel was healthy until now (log it once)."""
+        previous = self._health.get(name)
+        was_healthy = previous is None or previous.healthy
+        self._health[name] = ChannelHealth(
+            name=name, healthy=False, last_error=error, last_ok_utc=previous.last_ok_utc if previous else None
+        )
+        return was_healthy
+
+    def is_healthy(self, name: str) -> bool:
+        h = self._health.get(name)
+        return h is None or h.healthy
+
+    def snapshot(self, names: Sequence[str]) -> tuple[ChannelHealth, ...]:
+        return tuple(self._health.get(n, ChannelHealth(name=n, healthy=True)) for n in names)
+
+
+def build_channels(config: Config, env: Mapping[str, str] | None = None) -> list[Channel]:
+    """The channels ``[notify]`` asks for; the log channel is always first."""
+    channels: list[Channel] = [LogChannel()]
+    if config.notify.desktop:
+        channels.append(DesktopChannel(send_timeout_seconds=config.notify.send_timeout_seconds))
+    if config.notify.command:
+        channels.append(
+            CommandChannel(
+                config.notify.command,
+                timeout_seconds=config.notify.command_timeout_seconds,
+                timezone=config.site.timezone,
+            )
+        )
+    return channels
+
+
+# -- helpers ---------------------------------------------------------------------------------
+
+
+def _local_iso(when_utc: datetime | None, zone: ZoneInfo) -> str:
+    return "" if when_utc is None else when_utc.astimezone(zone).isoformat(timespec="seconds")
+
+
+class _CapturedWarnings(logging.Handler):
+    def __init__(self) -> None:
+        super().__init__(logging.WARNING)
+        self.records: list[logging.LogRecord] = []
+
+    def emit(self, record: logging.LogRecord) -> None:
+        self.records.append(record)
+
+    def text(self) -> str:
+        for record in self.records:
+            if record.exc_info and record.exc_info[1] is not None:
+                exc = record.exc_info[1]
+                return f"{type(exc).__name__}: {exc}"
+        return "; ".join(r.getMessage() for r in self.records)
+
+
+def _format_late(seconds: float) -> str:
+    if seconds < 90:
+        return f"{seconds:.0f} s"
+    return f"{seconds / 60:.0f} min"
+
+
+def _iso(when: datetime | None) -> str:
+    return "" if when is None else when.strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def _kill_group(process: asyncio.subprocess.Process) -> None:
+    try:
+        os.killpg(process.pid, signal.SIGKILL)
+    except (ProcessLookupError, PermissionError):
+        pass
+
+
+_OUTPUT_LIMIT_BYTES = 4096  # enough for a useful log line; a chatty hook cannot flood the journal

@@ -1,0 +1,252 @@
+"""Desktop notifications over a REAL private session bus, to a recording notification service.
+
+The bus is ``dbus-daemon`` with a minimal configuration (no service directories, so nothing on a
+developer's desktop can be activated); the notification service is tests/helpers/notify_server.py
+run as its own process, so the hung-server case can SIGSTOP it.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import json
+import logging
+import os
+import signal
+import subprocess
+import sys
+import tempfile
+import time
+from datetime import timedelta
+from pathlib import Path
+
+import pytest
+
+from siderod.model import EventKind, Urgency
+from siderod.service.delivery import AlertMessage, ChannelFailed, DesktopChannel, LogChannel
+
+pytestmark = [pytest.mark.slow, pytest.mark.needs_dbus]
+
+SERVER = Path(__file__).resolve().parents[1] / "helpers" / "notify_server.py"
+START_TIMEOUT_SECONDS = 10.0  # the bus and the server each print one line when ready
+SEND_TIMEOUT_SECONDS = 0.5  # short in tests; 5 s in production
+# A bounded send gives up within its timeout plus event-loop slack.
+BOUNDED_SLACK_SECONDS = 1.0
+
+_BUS_CONFIG = """<!DOCTYPE busconfig PUBLIC "-//freedesktop//DTD D-BUS Bus Configuration 1.0//EN"
+ "http://www.freedesktop.org/standards/dbus/1.0/busconfig.dtd">
+<busconfig>
+  <type>session</type>
+  <listen>unix:dir={dir}</listen>
+  <auth>EXTERNAL</auth>
+  <policy context="default">
+    <allow send_destination="*" eavesdrop="true"/>
+    <allow eavesdrop="true"/>
+    <allow own="*"/>
+  </policy>
+</busconfig>
+"""
+
+
+@pytest.fixture
+def session_bus(tool, monkeypatch):
+    """A private dbus-daemon; DBUS_SESSION_BUS_ADDRESS points at it. Yields the address."""
+    dbus_daemon = tool("dbus-daemon")
+    # A short directory: unix socket paths are limited to 107 bytes.
+    with tempfile.TemporaryDirectory(prefix="sdbus", dir="/tmp") as directory:
+        config = Path(directory) / "bus.conf"
+        config.write_text(_BUS_CONFIG.format(dir=directory))
+        process = subprocess.Popen(
+            [dbus_daemon, f"--config-file={config}", "--nofork", "--print-address=1"],
+            stdout=subprocess.PIPE,
+            stderr=subprocess.DEVNULL,  # "Failed to set fd limit" without CAP_SYS_RESOURCE: harmless
+        )
+        try:
+            address = _read_line(process, "dbus-daemon")
+            monkeypatch.setenv("DBUS_SESSION_BUS_ADDRESS", address)
+            yield address
+        finally:
+            process.kill()
+            process.wait()
+            process.stdout.close()
+
+
+@pytest.fixture
+def notify_server(session_bus, tmp_path):
+    """The recording notification service. Yields (process, record file)."""
+    record = tmp_path / "notify.jsonl"
+    process = subprocess.Popen(
+        [sys.executable, str(SERVER), str(record)],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.DEVNULL,
+        env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus),
+    )
+    try:
+        assert _read_line(process, "notify_server") == "ready"
+        yield process, record
+    finally:
+        process.send_signal(signal.SIGCONT)  # in case a test left it stopped
+        process.kill()
+        process.wait()
+        process.stdout.close()
+
+
+def _read_line(process: subprocess.Popen, what: str) -> str:
+    os.set_blocking(process.stdout.fileno(), False)
+    deadline = time.monotonic() + START_TIMEOUT_SECONDS
+    data = b""
+    while b"\n" not in data:
+        if time.monotonic() > deadline or process.poll() is not None:
+            raise AssertionError(f"{what} did not start")
+        chunk = process.stdout.read()
+        if chunk:
+            data += chunk
+        else:
+            time.sleep(0.005)
+    return data.split(b"\n", 1)[0].decode().strip()
+
+
+def _records(path: Path) -> list[dict]:
+    return [json.loads(line) for line in path.read_text().splitlines()] if path.exists() else []
+
+
+def _message(title="NGC 1001: meridian flip due now", urgency=Urgency.CRITICAL) -> AlertMessage:
+    return AlertMessage(key="k1", title=title, body="At 21:13:05 GMT (21:13:05 UTC)\nHour angle +0h05m00s",
+                        urgency=urgency)
+
+
+async def test_desktop_channel_sends_summary_body_and_urgency(notify_server):
+    _, record = notify_server
+    channel = DesktopChannel(send_timeout_seconds=5.0)
+    try:
+        await channel.send(_message())
+        await channel.send(_message("NGC 1002 culminates now", Urgency.LOW))
+    finally:
+        await channel.close()
+    got = _records(record)
+    assert [g["summary"] for g in got] == ["NGC 1001: meridian flip due now", "NGC 1002 culminates now"]
+    assert got[0]["body"] == "At 21:13:05 GMT (21:13:05 UTC)\nHour angle +0h05m00s"
+    # D-Bus urgency hint: 0 low, 1 normal, 2 critical (Desktop Notifications Specification).
+    assert [g["hints"]["urgency"] for g in got] == [2, 0]
+    assert got[0]["app_name"] == "siderod"
+    assert got[0]["app_icon"] == "", "no icon file from inside site-packages"
+
+
+async def test_no_notification_server_fails_fast_and_clearly(session_bus, caplog):
+    channel = DesktopChannel(send_timeout_seconds=5.0)
+    started = time.monotonic()
+    with caplog.at_level(logging.WARNING), pytest.raises(ChannelFailed, match="not accepted"):
+        await channel.send(_message())
+    await channel.close()
+    assert time.monotonic() - started < 5.0
+
+
+async def test_no_bus_at_all_fails_fast(monkeypatch, tmp_path):
+    monkeypatch.setenv("DBUS_SESSION_BUS_ADDRESS", f"unix:path={tmp_path}/no-such-bus")
+    channel = DesktopChannel(send_timeout_seconds=5.0)
+    with pytest.raises(ChannelFailed, match="not accepted"):
+        await channel.send(_message())
+    await channel.close()
+
+
+async def test_hung_server_is_bounded_and_recovers(notify_server):
+    process, record = notify_server
+    channel = DesktopChannel(send_timeout_seconds=SEND_TIMEOUT_SECONDS)
+    try:
+        await channel.send(_message("before the hang"))  # an already-connected notifier ...
+        process.send_signal(signal.SIGSTOP)  # ... would wait forever on a hung server
+        started = time.monotonic()
+        with pytest.raises(ChannelFailed, match="did not answer"):
+            await channel.send(_message("during the hang"))
+        assert time.monotonic() - started < SEND_TIMEOUT_SECONDS + BOUNDED_SLACK_SECONDS
+        # A fresh notifier is bounded too (dbus-fast's own introspection timeout is 30 s).
+        started = time.monotonic()
+        with pytest.raises(ChannelFailed, match="did not answer"):
+            await channel.send(_message("still hung"))
+        assert time.monotonic() - started < SEND_TIMEOUT_SECONDS + BOUNDED_SLACK_SECONDS
+        process.send_signal(signal.SIGCONT)
+        await channel.send(_message("after the hang"))  # rebuilt notifier works again
+    finally:
+        await channel.close()
+    summaries = [g["summary"] for g in _records(record)]
+    assert summaries[0] == "before the hang" and summaries[-1] == "after the hang"
+
+
+async def _service_with(tmp_path, channels, clock):
+    fakes = _load_fakes()
+    from siderod.service.daemon import Service
+    from siderod.service.scheduling import ClockScheduler
+
+    config = fakes.make_config(targets=("NGC 1001",), lead_minutes={EventKind.FLIP_DUE: (0.0,)})
+    event = next(e for e in fakes.synthetic_night(("NGC 1001",)) if e.kind is EventKind.FLIP_DUE)
+    service = Service(
+        lambda: config, clock, lambda on_due: ClockScheduler(on_due, clock), channels,
+        ledger_path=tmp_path / "ledger.sqlite3", agenda_source=fakes.FixedAgendaSource([event]),
+        control=False, env={}, offload_planning=False, file_poll_seconds=0,
+        clock_health_reader=lambda: __import__("siderod.model").model.ClockHealth(state="unknown"),
+    )
+    return service, event
+
+
+def _load_fakes():
+    import importlib.util
+
+    path = Path(__file__).resolve().parents[1] / "helpers" / "service_fakes.py"
+    spec = importlib.util.spec_from_file_location("siderod_test_helpers_service_fakes", path)
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[spec.name] = module
+    spec.loader.exec_module(module)
+    return module
+
+
+async def _run_until_delivered(service, clock, due_utc, done) -> asyncio.Task:
+    """Run the service past ``due_utc`` (fake time), then wait in real time for the D-Bus side."""
+    fakes = _load_fakes()
+    task = await fakes.run_service_until(service, clock, due_utc + timedelta(seconds=1))
+    deadline = time.monotonic() + START_TIMEOUT_SECONDS
+    while not done() and time.monotonic() < deadline:
+        await asyncio.sleep(0.01)  # real I/O on the bus: the one place these tests wait
+    return task
+
+
+async def test_service_alert_reaches_the_bus(notify_server, tmp_path):
+    from siderod.clock import FakeClock
+
+    fakes = _load_fakes()
+    process, record = notify_server
+    clock = FakeClock(fakes.NIGHT_START_UTC)
+    channels = [LogChannel(), DesktopChannel(send_timeout_seconds=5.0)]
+    service, event = await _service_with(tmp_path, channels, clock)
+    task = await _run_until_delivered(service, clock, event.time_utc, lambda: bool(_records(record)))
+    snapshot = service.snapshot()
+    await fakes.stop_service(service, task)
+    got = _records(record)
+    assert len(got) == 1
+    assert got[0]["summary"] == "NGC 1001: meridian flip due now"
+    body = got[0]["body"]
+    assert "UTC" in body and "Hour angle +0h05m00s" in body and "Altitude 73.5°" in body
+    assert got[0]["hints"]["urgency"] == 2  # flip-due is critical by default
+    assert all(c.healthy for c in snapshot.channels)
+
+
+async def test_service_with_hung_server_keeps_delivering_elsewhere(notify_server, tmp_path, caplog):
+    from siderod.clock import FakeClock
+
+    fakes = _load_fakes()
+    process, record = notify_server
+    process.send_signal(signal.SIGSTOP)
+    clock = FakeClock(fakes.NIGHT_START_UTC)
+    recorder = fakes.RecordingChannel(clock)
+    desktop = DesktopChannel(send_timeout_seconds=SEND_TIMEOUT_SECONDS)
+    service, event = await _service_with(tmp_path, [recorder, desktop], clock)
+    with caplog.at_level(logging.WARNING, logger="siderod"):
+        task = await _run_until_delivered(
+            service, clock, event.time_utc,
+            lambda: not {c.name: c for c in service.snapshot().channels}["desktop"].healthy,
+        )
+    snapshot = service.snapshot()
+    assert not task.done(), "the service is still running"
+    await fakes.stop_service(service, task)
+    assert len(recorder.alert_keys) == 1, "the other channel delivered"
+    desktop_health = {c.name: c for c in snapshot.channels}["desktop"]
+    assert not desktop_health.healthy and "did not answer" in desktop_health.last_error
+    assert any("channel desktop failed" in r.getMessage() for r in caplog.records)

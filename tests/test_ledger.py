@@ -1,0 +1,102 @@
+"""The SQLite ledger: WAL, exactly-once claims across connections, plan replacement, recovery."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime, timedelta
+
+from siderod.ledger import EVENT_MATCH_SECONDS, Ledger
+from siderod.model import Delivery, Event, EventKind, PlannedAlert, Urgency
+from siderod.planner import alert_key
+
+NOW = datetime(2026, 12, 14, 20, 0, tzinfo=UTC)
+
+
+def _alert(minutes: float, target="M31", kind=EventKind.CULMINATION, lead=0.0, jitter_seconds=0.0):
+    event = Event(NOW + timedelta(minutes=minutes, seconds=jitter_seconds), kind, target, 50.0, 180.0)
+    return PlannedAlert(alert_key(event, lead), event, lead, event.time_utc - timedelta(minutes=lead),
+                        Urgency.NORMAL, f"{target} {kind.value}", "body")
+
+
+def test_wal_mode_and_reopen(tmp_path):
+    path = tmp_path / "state" / "ledger.sqlite3"
+    with Ledger(path) as ledger:
+        assert ledger.journal_mode == "wal"
+        ledger.replace_planned([_alert(10)], NOW)
+    with Ledger(path) as ledger:
+        assert [r.state for r in ledger.rows()] == ["planned"]
+
+
+def test_claim_is_exactly_once_across_connections(tmp_path):
+    path = tmp_path / "ledger.sqlite3"
+    a, b = Ledger(path), Ledger(path)
+    try:
+        a.replace_planned([_alert(10)], NOW)
+        key = _alert(10).key
+        assert [a.claim(key, NOW), b.claim(key, NOW), a.claim(key, NOW)] == [True, False, False]
+        assert not a.claim("unknown-key", NOW)
+    finally:
+        a.close()
+        b.close()
+
+
+def test_replace_planned_drops_stale_rows_and_keeps_settled_ones(tmp_path):
+    with Ledger(tmp_path / "l.sqlite3") as ledger:
+        first, second = _alert(10), _alert(20, "M42")
+        assert ledger.replace_planned([first, second], NOW) == {first.key, second.key}
+        assert ledger.claim(first.key, NOW)
+        ledger.finish(first.key, NOW, 0.0)
+        # Re-plan: the delivered one is not open again, and a moved event replaces its old row.
+        moved = _alert(25, "M42")
+        assert ledger.replace_planned([first, moved], NOW) == {moved.key}
+        assert {r.key: r.state for r in ledger.rows()} == {first.key: "delivered", moved.key: "planned"}
+
+
+def test_an_event_found_a_little_apart_is_the_same_alert(tmp_path):
+    with Ledger(tmp_path / "l.sqlite3") as ledger:
+        original = _alert(10, jitter_seconds=0.49)
+        ledger.replace_planned([original], NOW)
+        ledger.claim(original.key, NOW)
+        ledger.finish(original.key, NOW, 0.0)
+        nudged = _alert(10, jitter_seconds=0.51)  # rounds to the next second: a different key
+        assert nudged.key != original.key
+        assert ledger.replace_planned([nudged], NOW) == frozenset()
+        far = _alert(10, jitter_seconds=EVENT_MATCH_SECONDS + 1)
+        assert ledger.replace_planned([far], NOW) == {far.key}
+
+
+def test_sweep_missed_and_unfinished_claims(tmp_path):
+    path = tmp_path / "l.sqlite3"
+    with Ledger(path) as ledger:
+        old, sending, later = _alert(-30, "A"), _alert(-2, "B"), _alert(30, "C")
+        ledger.replace_planned([old, sending, later], NOW - timedelta(hours=1))
+        assert ledger.claim(sending.key, NOW)
+        ledger.record_delivery(Delivery(sending.key, "log", NOW, 120.0, True, title="B"))
+        # The process dies here; a new one opens the file.
+    with Ledger(path) as ledger:
+        missed = ledger.sweep_missed(NOW - timedelta(minutes=10), NOW)
+        assert [r.key for r in missed] == [old.key]
+        unfinished = ledger.unfinished()
+        assert [r.key for r in unfinished] == [sending.key]
+        assert ledger.channels_done(sending.key) == {"log"}
+        assert ledger.counts() == {"missed": 1, "sending": 1, "planned": 1}
+
+
+def test_mutes_persist_and_expire(tmp_path):
+    path = tmp_path / "l.sqlite3"
+    with Ledger(path) as ledger:
+        ledger.set_mute("M31", NOW + timedelta(hours=1))
+        ledger.set_mute("sky", None)
+    with Ledger(path) as ledger:
+        assert ledger.mutes(NOW) == {"M31": NOW + timedelta(hours=1), "sky": None}
+        assert ledger.mutes(NOW + timedelta(hours=2)) == {"sky": None}
+        assert ledger.clear_mute("sky") and not ledger.clear_mute("sky")
+
+
+def test_recent_deliveries_newest_first_and_prune(tmp_path):
+    with Ledger(tmp_path / "l.sqlite3") as ledger:
+        for i in range(3):
+            when = NOW + timedelta(minutes=i)
+            ledger.record_delivery(Delivery(f"k{i}", "log", when, 0.0, True, title=f"t{i}"))
+        assert [d.key for d in ledger.recent_deliveries(2)] == ["k2", "k1"]
+        ledger.prune(NOW + timedelta(minutes=1, seconds=30))
+        assert [d.key for d in ledger.recent_deliveries()] == ["k2"]
