@@ -3,6 +3,12 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from siderod.astro.angles import AngleParseError
+    from siderod.astro.leapseconds import LeapTableExpired
+    from siderod.astro.timescales import NaiveDatetimeError
 
 __all__ = [
     "SiderodError",

@@ -15,7 +15,15 @@ from collections.abc import Sequence
 from siderod import __version__
 from siderod.errors import ConfigErrors, ServiceNotRunning, SiderodError
 
-__all__ = ["main", "build_parser", "EXIT_OK", "EXIT_BAD_INPUT", "EXIT_USAGE", "EXIT_NO_SERVICE", "EXIT_FAILURE"]
+__all__ = [
+    "main",
+    "build_parser",
+    "EXIT_OK",
+    "EXIT_BAD_INPUT",
+    "EXIT_USAGE",
+    "EXIT_NO_SERVICE",
+    "EXIT_FAILURE",
+]
 
 EXIT_OK = 0
 EXIT_BAD_INPUT = 1  # a configuration or input problem the user can fix
