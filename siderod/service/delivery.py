@@ -64,7 +64,10 @@ def message_for_alert(alert: PlannedAlert, late_seconds: float, *, late_mark_sec
     if late_seconds > late_mark_seconds:
         late_text = _format_late(late_seconds)
         title = f"[late {late_text}] {title}"
-        body = f"Delivered {late_text} after it was due (the computer was asleep or the clock moved).\n{body}"
+        body = (
+            f"Delivered {late_text} after it was due "
+            f"(the service was stopped, the computer slept, or its clock moved).\n{body}"
+        )
     return AlertMessage(
         key=alert.key,
         title=title,
