@@ -142,7 +142,7 @@ def _describe(event) -> str:
     if kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION):
         return "usable" if event.usable else "below its limit"
     if kind in (EventKind.HOUR_ANGLE, EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT):
-        text = f"HA {event.mark_hours:+.2f} h"
+        text = f"HA {_signed(event.mark_hours)} h"
         if kind is EventKind.TRACKING_LIMIT:
             text += " - check the mount's own limits"
         return text
@@ -153,14 +153,29 @@ def _describe(event) -> str:
     return ""
 
 
+def _table_note(event) -> str:
+    """The note column: what the other columns do not already say."""
+    from siderod.model import EventKind
+
+    if event.kind is EventKind.HOUR_ANGLE:
+        return ""  # the HA column is the mark
+    if event.kind is EventKind.FLIP_DUE:
+        return "flip the mount"
+    if event.kind is EventKind.TRACKING_LIMIT:
+        return "at mount limit"
+    return _describe(event)
+
+
 def _print_table(agenda, config) -> None:
+    import os
     from zoneinfo import ZoneInfo
 
+    from rich import box
     from rich.console import Console
     from rich.table import Table
 
     zone = ZoneInfo(config.site.timezone)
-    table = Table(title=f"{config.site.name}: {agenda.start_utc:%Y-%m-%d %H:%M} UTC + "
+    table = Table(box=box.SIMPLE_HEAD, pad_edge=False, title=f"{config.site.name}: {agenda.start_utc:%Y-%m-%d %H:%M} UTC + "
                   f"{(agenda.end_utc - agenda.start_utc).total_seconds() / 3600:g} h", title_justify="left")
     for name, justify in (("Local", "left"), ("UTC", "left"), ("Event", "left"), ("Target", "left"),
                           ("Alt°", "right"), ("Az°", "right"), ("HA h", "right"), ("Note", "left")):
@@ -170,10 +185,10 @@ def _print_table(agenda, config) -> None:
         table.add_row(
             local.strftime("%a %H:%M %Z"), e.time_utc.strftime("%H:%M:%S"), e.kind.value, e.target or "",
             f"{e.altitude_deg:.1f}", f"{round(e.azimuth_deg, 1) % 360.0:.1f}",
-            "" if e.hour_angle_hours is None else f"{e.hour_angle_hours:+.2f}", _describe(e))
+            "" if e.hour_angle_hours is None else _signed(e.hour_angle_hours), _table_note(e))
     console = Console()
-    if not console.is_terminal:
-        console = Console(width=120)  # pipes and files get every column
+    if not console.is_terminal and "COLUMNS" not in os.environ:
+        console = Console(width=120)  # pipes and files get every column unless told otherwise
     console.print(table)
     if not agenda.events:
         console.print("No events in this window (check --target/--kind).")
@@ -241,3 +256,8 @@ def _fold(line: str) -> str:
         size += width
     out.append("".join(current))
     return "\r\n".join(out)
+
+
+def _signed(hours: float) -> str:
+    # Round before formatting so a culmination a microsecond early does not print as "-0.00".
+    return f"{round(hours, 2) + 0.0:+.2f}"
