@@ -5,9 +5,10 @@ Times are two-part Julian dates carried by ``Instants``; angles carry their unit
 east. Submodules are loaded on first use, so importing one of them stays cheap.
 
 Layout, in the order a reader meets the ideas: ``constants``, ``angles``, ``leapseconds`` and
-``timescales`` (time), ``sidereal`` (ERA, GMST, GAST, LST), ``precession`` (bias, precession and
-nutation), ``places`` (apparent places, alt/az), ``refraction``, ``frames`` (galactic, ecliptic),
-``sunmoon`` (low-precision Sun and Moon), and ``search``/``events`` (event finding).
+``timescales`` (time), ``sidereal`` (ERA, GMST, GAST, LST), ``nutation2000a`` (the full IAU 2000A
+series), ``precession`` (bias, precession and IAU 2000B nutation), ``places`` (apparent places,
+alt/az), ``refraction``, ``frames`` (galactic, ecliptic), ``sunmoon`` (low-precision Sun and Moon),
+and ``search``/``events`` (event finding).
 """
 
 from __future__ import annotations
@@ -61,6 +62,8 @@ _EXPORTS: dict[str, str] = {
     "era_rad": "sidereal",
     "find_lst_unix": "sidereal",
     "gast_rad": "sidereal",
+    "NutationModel": "sidereal",
+    "nutation_2000a_rad": "nutation2000a",
     "gmst_rad": "sidereal",
     "last_hours": "sidereal",
     "lmst_hours": "sidereal",

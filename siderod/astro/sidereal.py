@@ -5,26 +5,40 @@ Methods (each named beside its formula below):
 * ERA: IAU 2000 Earth rotation angle (IERS Conventions 2010 eq. 5.15), in the operation order of ERFA
   ``era00`` so that two-part UT1 dates keep full precision;
 * GMST: IAU 2006 (Capitaine et al. 2005; ERFA ``gmst06``): ERA plus a polynomial in TT centuries;
-* equation of the equinoxes: IAU 2000B nutation in longitude times cos(IAU 2006 mean obliquity), as ERFA
-  ``ee00`` forms it, plus the IERS 2003 complementary terms (ERFA ``eect00``);
-* GAST = GMST + EE. Against the full IAU 2006/2000A model (ERFA ``gst06a``) this differs by the IAU 2000B
-  truncation of the nutation, about 1 mas (0.07 ms of time) or less over 1900-2100.
+* equation of the equinoxes: nutation in longitude times cos(IAU 2006 mean obliquity), as ERFA ``ee00``
+  forms it, plus the IERS 2003 complementary terms (ERFA ``eect00``). The nutation is IAU 2000A with the
+  IAU 2006 adjustments (ERFA ``nut06a``, :mod:`siderod.astro.nutation2000a`) by default; the 77-term
+  IAU 2000B series (ERFA ``nut00b``) stays available with ``nutation="2000B"``;
+* GAST: IAU 2006 GMST + equation of the equinoxes from IAU 2000A nutation (IAU 2006-adjusted) +
+  complementary terms. This equinox-based sum and ERFA's CIO-based ``gst06a`` (ERA minus the equation
+  of the origins) are two forms of the same IAU 2006/2000A model: over 1900-2100 they agree within
+  4.4e-12 rad, 0.06 microseconds of time (measured with pyerfa 2.0.1.5 at 150 001 epochs).
+
+Why 2000A by default: siderod promises LAST within 0.1 ms of time of ``gst06a`` over 1900-2100, and
+IAU 2000B's dpsi departs from 2000A by up to 2.8 mas there (0.17 ms of time in the equation of the
+equinoxes). The full series costs about 50 microseconds per instant, so callers with many instants use
+:class:`FastSidereal`, which evaluates it at a few nodes per day of the window. ``nutation="2000B"``
+(about 5 microseconds per instant, within 0.2 ms of time of ``gst06a``) suits places where a
+millisecond of time does not matter.
 
 LMST/LAST here are GMST/GAST plus the east-positive longitude. They leave out the TIO locator s'
 (-47 microarcsec per century) and polar motion (up to ~0.5 arcsec of longitude), as most clocks do.
 """
 
 import math
+from typing import Literal
 
 import numpy as np
 
 from .constants import ARCSEC_RAD, DAY_SECONDS, J2000_JD, SIDEREAL_PER_SOLAR, TAU
 from .leapseconds import BUILTIN_LEAP_TABLE, LeapTable
+from .nutation2000a import _iers2003_arguments_rad, nutation_2000a_rad
 from .precession import julian_centuries_tt, mean_obliquity_rad, nutation_rad
 from .timescales import Instants, instants_from_unix
 
 __all__ = [
     "FastSidereal",
+    "NutationModel",
     "SIDEREAL_DAY_SECONDS",
     "complementary_terms_rad",
     "equation_of_equinoxes_rad",
@@ -37,6 +51,10 @@ __all__ = [
     "sidereal_to_solar_seconds",
     "solar_to_sidereal_seconds",
 ]
+
+#: Names of the nutation models the apparent sidereal time can use: "2000A" (IAU 2000A with the IAU 2006
+#: adjustments, ERFA ``nut06a``; the default) or "2000B" (77-term IAU 2000B, ERFA ``nut00b``).
+NutationModel = Literal["2000A", "2000B"]
 
 #: Mean sidereal day in mean solar (UT1) seconds: 86400 / 1.00273790935 = 86164.0905 s,
 #: i.e. 23 h 56 m 4.0905 s (common practice).
@@ -90,20 +108,26 @@ def gmst_rad(ut1_whole, ut1_frac, tt_whole, tt_frac):
     return _anp(era_rad(ut1_whole, ut1_frac) + poly)
 
 
-def equation_of_equinoxes_rad(tt_whole, tt_frac):
-    """Equation of the equinoxes: IAU 2000B dpsi cos(eps_A) plus complementary terms (ERFA ``ee00`` form).
+def equation_of_equinoxes_rad(tt_whole, tt_frac, *, nutation: NutationModel = "2000A"):
+    """Equation of the equinoxes: dpsi cos(eps_A) plus complementary terms (ERFA ``ee00`` form).
 
-    dpsi is the IAU 2000B nutation in longitude (ERFA ``nut00b``); eps_A the IAU 2006 mean obliquity
-    (ERFA ``obl06``); the complementary terms are the IERS 2003 series (ERFA ``eect00``). Size up to
-    about 1.1 s of time; good to ~1 mas against the IAU 2006/2000A value (ERFA ``ee06a``).
+    dpsi is the nutation in longitude: IAU 2000A with the IAU 2006 adjustments (ERFA ``nut06a``) by
+    default, or IAU 2000B (ERFA ``nut00b``); eps_A is the IAU 2006 mean obliquity (ERFA ``obl06``); the
+    complementary terms are the IERS 2003 series (ERFA ``eect00``). Size up to about 1.1 s of time.
+    With "2000A" it is within 4.4e-12 rad (0.06 microseconds of time) of ERFA ``ee06a`` over 1900-2100;
+    with "2000B" within about 2.8 mas (0.17 ms of time).
 
     Args:
         tt_whole, tt_frac: two-part Julian date (TT), days, broadcastable shapes.
+        nutation: "2000A" (default; about 50 microseconds per instant) or "2000B" (about 5).
 
     Returns:
         radians, broadcast shape.
+
+    Raises:
+        ValueError: ``nutation`` is not one of the two model names.
     """
-    dpsi, _ = nutation_rad(tt_whole, tt_frac)
+    dpsi = _dpsi_rad(tt_whole, tt_frac, nutation)
     return (dpsi * np.cos(mean_obliquity_rad(tt_whole, tt_frac)) + complementary_terms_rad(tt_whole, tt_frac))
 
 
@@ -126,20 +150,26 @@ def complementary_terms_rad(tt_whole, tt_frac):
     return ((s0 + s1 * t) * ARCSEC_RAD)[()]
 
 
-def gast_rad(ut1_whole, ut1_frac, tt_whole, tt_frac):
-    """Greenwich apparent sidereal time: IAU 2006 GMST + equation of the equinoxes (IAU 2000B).
+def gast_rad(ut1_whole, ut1_frac, tt_whole, tt_frac, *, nutation: NutationModel = "2000A"):
+    """Greenwich apparent sidereal time: IAU 2006 GMST + equation of the equinoxes.
 
-    Within 0.1 ms of time of ERFA ``gst06a`` (IAU 2006/2000A, CIO based) over 1900-2100.
+    The equation of the equinoxes uses IAU 2000A nutation (IAU 2006-adjusted) plus the complementary
+    terms; the result is within 0.06 microseconds of time of ERFA ``gst06a`` (IAU 2006/2000A, CIO
+    based) over 1900-2100. With ``nutation="2000B"`` it is within 0.2 ms of time.
 
     Args:
         ut1_whole, ut1_frac: two-part Julian date (UT1), days.
         tt_whole, tt_frac: two-part Julian date (TT), days; all four broadcast together.
+        nutation: "2000A" (default) or "2000B"; see :func:`equation_of_equinoxes_rad`.
 
     Returns:
         radians in [0, 2 pi), broadcast shape.
+
+    Raises:
+        ValueError: ``nutation`` is not one of the two model names.
     """
-    gmst = gmst_rad(ut1_whole, ut1_frac, tt_whole, tt_frac)
-    return _anp(gmst + equation_of_equinoxes_rad(tt_whole, tt_frac))
+    ee = equation_of_equinoxes_rad(tt_whole, tt_frac, nutation=nutation)
+    return _anp(gmst_rad(ut1_whole, ut1_frac, tt_whole, tt_frac) + ee)
 
 
 def lmst_hours(instants: Instants, lon_deg):
@@ -156,17 +186,26 @@ def lmst_hours(instants: Instants, lon_deg):
     return _hours_24(gmst * _RAD_TO_HOURS + np.asarray(lon_deg, dtype=np.float64) / 15.0)
 
 
-def last_hours(instants: Instants, lon_deg):
-    """Local apparent sidereal time: GMST + equation of the equinoxes (IAU 2000B) + longitude.
+def last_hours(instants: Instants, lon_deg, *, nutation: NutationModel = "2000A"):
+    """Local apparent sidereal time: GAST (:func:`gast_rad`) + longitude.
+
+    Within 0.06 microseconds of time of ERFA ``gst06a`` + longitude over 1900-2100 (with
+    ``nutation="2000B"``, within 0.2 ms). About 50 microseconds per instant: for many instants in one
+    window, use :class:`FastSidereal`.
 
     Args:
         instants: the instants (any shape).
         lon_deg: longitude in degrees, east positive; broadcast against ``instants.shape``.
+        nutation: "2000A" (default) or "2000B"; see :func:`equation_of_equinoxes_rad`.
 
     Returns:
         hours in [0, 24), broadcast shape.
+
+    Raises:
+        ValueError: ``nutation`` is not one of the two model names.
     """
-    gast = gast_rad(instants.ut1_whole, instants.ut1_frac, instants.tt_whole, instants.tt_frac)
+    gast = gast_rad(instants.ut1_whole, instants.ut1_frac, instants.tt_whole, instants.tt_frac,
+                    nutation=nutation)
     return _hours_24(gast * _RAD_TO_HOURS + np.asarray(lon_deg, dtype=np.float64) / 15.0)
 
 
@@ -176,9 +215,11 @@ class FastSidereal:
     Over each segment of at most one day, sidereal time in turns is a constant plus the ERA rate
     times the elapsed seconds plus a slowly varying remainder (precession and nutation). The remainder
     is fitted, per segment, by a cubic polynomial through 8 Chebyshev nodes where the exact model
-    (:func:`gast_rad`, :func:`gmst_rad`) is evaluated; the largest nutation term it has to follow has a
-    13.66-day period, so the fit error stays below a microsecond of time. Results are within 0.1 ms of
-    time of ERFA ``gst06a`` (the IAU 2000B truncation dominates). DUT1 is one value for the window.
+    (:func:`gast_rad`, :func:`gmst_rad`) is evaluated, all segments in one call, so the full IAU 2000A
+    series costs 9 evaluations per day of window (about 1 ms of build time a day). The largest nutation
+    term it has to follow has a 13.66-day period, so the fit error stays below a microsecond of time
+    (0.55 us at worst, measured), and LAST is within a microsecond of time of ERFA ``gst06a`` (within
+    0.2 ms with ``nutation="2000B"``). DUT1 is one value for the window.
 
     Outside the window the polynomial of the nearest segment is extrapolated; accuracy then degrades
     (about 1 ms of time a day away), so build the window to cover the instants you ask about.
@@ -187,26 +228,31 @@ class FastSidereal:
         start_unix, end_unix: window, POSIX seconds (UTC), start < end.
         dut1_seconds: UT1 - UTC for the window, seconds.
         leap_table: TAI - UTC table.
+        nutation: "2000A" (default) or "2000B", for LAST; see :func:`equation_of_equinoxes_rad`.
+
+    Raises:
+        ValueError: the window is empty or not finite, or ``nutation`` is not one of the two model names.
     """
 
     _SEGMENT_SECONDS = DAY_SECONDS
     _CHUNK = 32768  # elements per pass: keeps scratch arrays in cache (perf-baselines.md, lesson 4)
 
     def __init__(self, start_unix: float, end_unix: float, *, dut1_seconds: float = 0.0,
-                 leap_table: LeapTable = BUILTIN_LEAP_TABLE) -> None:
+                 leap_table: LeapTable = BUILTIN_LEAP_TABLE, nutation: NutationModel = "2000A") -> None:
         start = float(start_unix)
         end = float(end_unix)
         if not (math.isfinite(start) and math.isfinite(end) and end > start):
             raise ValueError(f"FastSidereal needs finite start_unix < end_unix; "
                              f"got {start_unix!r}, {end_unix!r}")
+        _check_nutation(nutation)
         self.start_unix = start
         self.end_unix = end
         self.dut1_seconds = float(dut1_seconds)
         self.leap_table = leap_table
+        self.nutation = nutation
         n_seg = max(1, math.ceil((end - start) / self._SEGMENT_SECONDS))
         self._segment_seconds = (end - start) / n_seg
-        self._apparent = self._fit(n_seg, apparent=True)
-        self._mean = self._fit(n_seg, apparent=False)
+        self._apparent, self._mean = self._fit(n_seg)
 
     def last_hours(self, unix_seconds, lon_deg=0.0):
         """Local apparent sidereal time at the instants.
@@ -224,25 +270,33 @@ class FastSidereal:
         """Local mean sidereal time at the instants (same arguments as :meth:`last_hours`)."""
         return self._evaluate(self._mean, unix_seconds, lon_deg)
 
-    def _fit(self, n_seg: int, *, apparent: bool) -> np.ndarray:
-        """Per segment: cubic coefficients (highest power first), turns vs seconds from segment start."""
+    def _fit(self, n_seg: int) -> tuple[np.ndarray, np.ndarray]:
+        """Per segment, for LAST and for LMST: cubic coefficients (highest power first), shape (n_seg, 4),
+        turns vs seconds from segment start.
+
+        All segments' nodes go through the exact model in one call, so the nutation series is evaluated
+        once per window (as an (n_seg, 9) array of instants), not once per segment.
+        """
         k = np.arange(8)
         cheb = 0.5 - 0.5 * np.cos((2 * k + 1) * math.pi / 16)   # Chebyshev nodes in (0, 1)
         seg = self._segment_seconds
         dt = cheb * seg
-        coefs = np.empty((n_seg, 4))
-        for i in range(n_seg):
-            seg_start = self.start_unix + i * seg
-            inst = instants_from_unix(seg_start + np.concatenate(([0.0], dt)),
-                                      dut1_seconds=self.dut1_seconds, leap_table=self.leap_table)
-            model = gast_rad if apparent else gmst_rad
-            turns = model(inst.ut1_whole, inst.ut1_frac, inst.tt_whole, inst.tt_frac) / TAU
-            c0 = turns[0]
-            resid = turns[1:] - (c0 + _ERA_TURNS_PER_SECOND * dt)
+        seg_start = self.start_unix + np.arange(n_seg)[:, None] * seg
+        inst = instants_from_unix(seg_start + np.concatenate(([0.0], dt)),   # (n_seg, 9)
+                                  dut1_seconds=self.dut1_seconds, leap_table=self.leap_table)
+        tt = (inst.tt_whole, inst.tt_frac)
+        gmst = gmst_rad(inst.ut1_whole, inst.ut1_frac, *tt)
+        # gast_rad's sum, sharing the GMST already computed.
+        gast = _anp(gmst + equation_of_equinoxes_rad(*tt, nutation=self.nutation))
+        fits = []
+        for model in (gast, gmst):
+            turns = model / TAU
+            c0 = turns[:, 0]
+            resid = turns[:, 1:] - (c0[:, None] + _ERA_TURNS_PER_SECOND * dt)
             resid -= np.floor(resid + 0.5)                       # unwrap to [-0.5, 0.5) turns
-            c3, c2, c1, r0 = np.polyfit(dt, resid, 3)
-            coefs[i] = (c3, c2, c1 + _ERA_TURNS_PER_SECOND, c0 + r0)
-        return coefs
+            c3, c2, c1, r0 = np.polyfit(dt, resid.T, 3)          # one cubic per segment (column)
+            fits.append(np.stack([c3, c2, c1 + _ERA_TURNS_PER_SECOND, c0 + r0], axis=-1))
+        return fits[0], fits[1]
 
     def _evaluate(self, coefs: np.ndarray, unix_seconds, lon_deg):
         unix = np.asarray(unix_seconds, dtype=np.float64)
@@ -358,6 +412,23 @@ def solar_to_sidereal_seconds(solar_seconds):
 
 _RAD_TO_HOURS = 12.0 / math.pi
 _ERA_TURNS_PER_SECOND = 1.00273781191135448 / DAY_SECONDS
+_NUTATION_MODELS = ("2000A", "2000B")
+
+
+def _check_nutation(nutation) -> None:
+    if nutation not in _NUTATION_MODELS:
+        raise ValueError(
+            f"nutation must be \"2000A\" (IAU 2000A, IAU 2006-adjusted: the default, within 0.06 "
+            f"microseconds of time of gst06a) or \"2000B\" (77-term IAU 2000B: faster, within 0.2 ms); "
+            f"got {nutation!r}")
+
+
+def _dpsi_rad(tt_whole, tt_frac, nutation):
+    """Nutation in longitude of the chosen model, radians (validates ``nutation`` first)."""
+    _check_nutation(nutation)
+    if nutation == "2000A":
+        return nutation_2000a_rad(tt_whole, tt_frac)[0]
+    return nutation_rad(tt_whole, tt_frac)[0]
 
 
 def _anp(a):
@@ -375,26 +446,10 @@ def _hours_24(h):
 def _fundamental_arguments_2003(t: np.ndarray) -> np.ndarray:
     """IERS Conventions 2003 fundamental arguments l, l', F, D, Omega, L_Venus, L_Earth, p_A (radians).
 
-    Polynomials (arcsec, Simon et al. 1994) as in ERFA fal03, falp03, faf03, fad03, faom03; planetary
-    longitudes (Souchay et al. 1999) as in fave03, fae03; general precession as in fapa03.
+    The columns the complementary terms need, taken from the full IERS 2003 set of
+    :mod:`siderod.astro.nutation2000a` (ERFA fal03, falp03, faf03, fad03, faom03, fave03, fae03, fapa03).
     """
-    turn = 1296000.0
-    fa = [
-        np.fmod(485868.249036 + t * (1717915923.2178 + t * (31.8792 + t * (0.051635 + t * (-0.00024470)))),
-                turn) * ARCSEC_RAD,
-        np.fmod(1287104.793048 + t * (129596581.0481 + t * (-0.5532 + t * (0.000136 + t * (-0.00001149)))),
-                turn) * ARCSEC_RAD,
-        np.fmod(335779.526232 + t * (1739527262.8478 + t * (-12.7512 + t * (-0.001037 + t * (0.00000417)))),
-                turn) * ARCSEC_RAD,
-        np.fmod(1072260.703692 + t * (1602961601.2090 + t * (-6.3706 + t * (0.006593 + t * (-0.00003169)))),
-                turn) * ARCSEC_RAD,
-        np.fmod(450160.398036 + t * (-6962890.5431 + t * (7.4722 + t * (0.007702 + t * (-0.00005939)))),
-                turn) * ARCSEC_RAD,
-        np.fmod(3.176146697 + 1021.3285546211 * t, TAU),
-        np.fmod(1.753470314 + 628.3075849991 * t, TAU),
-        (0.024381750 + 0.00000538691 * t) * t,
-    ]
-    return np.stack(fa, axis=-1)
+    return _iers2003_arguments_rad(t)[..., _EECT00_ARGUMENT_COLUMNS]
 
 
 # Complementary terms of the equation of the equinoxes: IERS Conventions 2003 (Capitaine et al. 2003),
@@ -438,6 +493,8 @@ _EECT00_TABLE = (
     (0, 0, 0, 0, 1, 0, 0, 0, -0.87, 0.00),  # order t^1
 )
 _EECT00_ARRAY = np.array(_EECT00_TABLE, dtype=np.float64)
+# Where l, l', F, D, Omega, L_Venus, L_Earth, p_A sit among the 14 IERS 2003 arguments.
+_EECT00_ARGUMENT_COLUMNS = [0, 1, 2, 3, 4, 6, 7, 13]
 _EECT00_MULT = _EECT00_ARRAY[:, :8]
 _EECT00_SIN = _EECT00_ARRAY[:, 8] * 1e-6   # microarcsec -> arcsec
 _EECT00_COS = _EECT00_ARRAY[:, 9] * 1e-6

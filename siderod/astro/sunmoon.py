@@ -218,7 +218,8 @@ def _moon_apparent_xyz_km(instants: Instants):
 def _observe_geocentric(x, y, z, instants: Instants, observer: Observer) -> Positions:
     """Positions of a body from its geocentric apparent position (km, equator of date)."""
     tt_w, tt_f = np.asarray(instants.tt_whole), np.asarray(instants.tt_frac)
-    last_rad = (gast_rad(instants.ut1_whole, instants.ut1_frac, tt_w, tt_f)
+    # Same nutation model as the body's place of date (IAU 2000B), so it cancels in the hour angle.
+    last_rad = (gast_rad(instants.ut1_whole, instants.ut1_frac, tt_w, tt_f, nutation="2000B")
                 + observer.longitude_deg * DEG_RAD)
     cl, sl = np.cos(last_rad), np.sin(last_rad)
     xh = cl * x + sl * y

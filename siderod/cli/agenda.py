@@ -175,8 +175,9 @@ def _print_table(agenda, config) -> None:
     from rich.table import Table
 
     zone = ZoneInfo(config.site.timezone)
-    table = Table(box=box.SIMPLE_HEAD, pad_edge=False, title=f"{config.site.name}: {agenda.start_utc:%Y-%m-%d %H:%M} UTC + "
-                  f"{(agenda.end_utc - agenda.start_utc).total_seconds() / 3600:g} h", title_justify="left")
+    hours = (agenda.end_utc - agenda.start_utc).total_seconds() / 3600
+    title = f"{config.site.name}: {agenda.start_utc:%Y-%m-%d %H:%M} UTC + {hours:g} h"
+    table = Table(box=box.SIMPLE_HEAD, pad_edge=False, title=title, title_justify="left")
     for name, justify in (("Local", "left"), ("UTC", "left"), ("Event", "left"), ("Target", "left"),
                           ("Alt°", "right"), ("Az°", "right"), ("HA h", "right"), ("Note", "left")):
         table.add_column(name, justify=justify, no_wrap=name != "Note")

@@ -86,13 +86,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"siderod {__version__}")
     subparsers = parser.add_subparsers(title="commands", metavar="COMMAND")
     for name in _VERB_MODULES:
-        try:  # DEVTEMP: verbs land one by one while the tree is built; removed before release
-            module = importlib.import_module(name)
-        except ModuleNotFoundError as exc:
-            if exc.name != name:
-                raise
-            continue
-        module.register(subparsers)
+        importlib.import_module(name).register(subparsers)
     for verb_parser in subparsers.choices.values():
         _add_common_options(verb_parser)
     return parser

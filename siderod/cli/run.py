@@ -68,7 +68,7 @@ def run(args: argparse.Namespace) -> int:
         env=env,
         boot_seconds=linux_boot_seconds(),
     )
-    with_view = not args.no_view and sys.stdout.isatty() and _view_available()
+    with_view = not args.no_view and sys.stdout.isatty()
 
     async def main() -> None:
         if not with_view:
@@ -128,12 +128,6 @@ async def _run_view(service, clock) -> None:
         await run_live(clock, feed.inputs_at, console, min(service.config.view.refresh_hz, 10.0))
     finally:
         await feed.close()
-
-
-def _view_available() -> bool:
-    import importlib.util
-
-    return importlib.util.find_spec("siderod.view.live") is not None
 
 
 def _export_session_bus(env) -> None:

@@ -2,8 +2,8 @@
 
 References, named beside each check:
 - ERFA's test program liberfa/erfa src/t_erfa_c.c (ERFA 2.0.1 / SOFA 20231011): t_era00, t_gmst06,
-  t_ee00b, t_eect00 (values and tolerances copied from there);
-- pyerfa 2.0.1.5, test-only: era00, gmst06, gst06a, nut00b, obl06, eect00, fal03...fapa03;
+  t_gst06a, t_ee06a, t_ee00b, t_eect00 (values and tolerances copied from there);
+- pyerfa 2.0.1.5, test-only: era00, gmst06, gst06a, ee06a, nut06a, nut00b, obl06, eect00, fal03...fapa03;
 - the 10-row table of astro-references.md section 5 (computed with pyerfa 2.0.1.5);
 - Meeus, Astronomical Algorithms 2nd ed., Examples 12.a/12.b [from memory, re-derived with erfa.gmst82];
 - common practice: 24 h sidereal = 23 h 56 m 4.09 s mean solar.
@@ -46,13 +46,21 @@ ERFA_ST_TOL_RAD = 1e-12
 ERA_TOL_RAD = 1e-12
 #: Brief: LMST within 1 microsecond of time of gmst06 + longitude (we measure ~1e-15 rad).
 LMST_TOL_SECONDS = 1e-6
+#: Project requirement: LAST within 0.1 ms of time of gst06a + longitude over 1900-2100. The checks below
+#: use tighter, measured bounds; this one is what the 2000B path is held to on the demo night.
+REQUIRED_LAST_SECONDS = 0.1e-3
+#: Default (2000A) GAST is gst06a's IAU 2006/2000A model in equinox-based form (GMST + EE), gst06a the
+#: CIO-based form (ERA - EO): we measured them 4.3e-12 rad = 0.06 microseconds of time apart at most
+#: over 1900-2100; 0.2 microseconds bounds that with room for round-off, 500x inside the requirement.
+LAST_VS_GST06A_TOL_SECONDS = 0.2e-6
+#: The same equinox-vs-CIO difference in radians, for the ERFA vectors t_gst06a and t_ee06a (their own
+#: tolerances, 1e-12 and 1e-15 rad, are for the CIO form; we measured 8.4e-13 rad at that epoch).
+EQUINOX_VS_CIO_FORM_TOL_RAD = 5e-12
 #: IAU 2000B nutation is a truncation: we measured its dpsi off 2000A by up to 2.8 mas over 1900-2100,
-#: i.e. up to 0.17 ms of time in the equation of the equinoxes; 0.2 ms bounds that (the brief's 0.1 ms
-#: is not reachable with 2000B; see the report).
-LAST_VS_GST06A_TOL_SECONDS = 0.2e-3
-#: The brief's 0.1 ms of time; on the demo night (2026-12-14/15) 2000B is 0.01 ms from gst06a (measured).
-LAST_VS_GST06A_DEMO_NIGHT_TOL_SECONDS = 0.1e-3
-#: Our GAST against the same model assembled from ERFA pieces (gmst06 + nut00b dpsi cos obl06 + eect00).
+#: i.e. up to 0.17 ms of time in the equation of the equinoxes; 0.2 ms bounds the 2000B path.
+LAST_2000B_VS_GST06A_TOL_SECONDS = 0.2e-3
+#: Our GAST against the same model assembled from ERFA pieces (gmst06 + nut06a or nut00b dpsi cos obl06
+#: + eect00): only round-off differs (measured 8.9e-16 rad).
 SAME_MODEL_TOL_RAD = 1e-13
 #: ee00b uses eps_A = obl80 + pr00 rate term; we use obl06 (IAU 2006): they differ by ~0.04", which moves
 #: dpsi*cos(eps) by ~1e-12 rad.
@@ -61,8 +69,12 @@ EE00B_TOL_RAD = 1e-11
 EECT00_TOL_RAD = 1e-20
 #: Meeus 12.a/12.b are IAU 1982 (gmst82); IAU 2006 GMST differs by ~3-4 ms in 1987 (astro-references 3a).
 MEEUS_TOL_SECONDS = 5e-3
-#: FastSidereal must stay within a microsecond of our exact model (fit error measured ~0.1 us).
+#: FastSidereal must stay within a microsecond of our exact model (fit error measured 0.09 us on the demo
+#: night, 0.55 us at worst over 300 random windows of 1 h to 3 days in 1900-2100).
 FAST_VS_EXACT_TOL_SECONDS = 1e-6
+#: FastSidereal (2000A) against gst06a: its fit error plus the 0.06 us model difference (measured 0.55 us
+#: at worst over those 300 windows); 1 us, 100x inside the 0.1 ms requirement.
+FAST_VS_GST06A_TOL_SECONDS = 1e-6
 #: Newton refinement in find_lst_unix converges far below this; 1e-9 h = 3.6 microseconds.
 FIND_TOL_HOURS = 1e-9
 
@@ -87,11 +99,29 @@ def test_gmst_matches_erfa_test_vector_t_gmst06():
     assert abs(float(value) - 1.754174971870091203) <= ERFA_ST_TOL_RAD
 
 
-def test_equation_of_equinoxes_matches_erfa_test_vector_t_ee00b():
+def test_gast_matches_erfa_test_vector_t_gst06a():
+    value = gast_rad(2400000.5, 53736.0, 2400000.5, 53736.0)
+    assert abs(float(value) - 1.754166137675019159) <= EQUINOX_VS_CIO_FORM_TOL_RAD
+
+
+def test_equation_of_equinoxes_matches_erfa_test_vector_t_ee06a():
+    # t_erfa_c.c t_ee06a: -0.8834195072043790156e-5 rad (IAU 2006/2000A; = gst06a - gmst06).
+    value = equation_of_equinoxes_rad(2400000.5, 53736.0)
+    assert abs(float(value) + 0.8834195072043790156e-5) <= EQUINOX_VS_CIO_FORM_TOL_RAD
+
+
+def test_equation_of_equinoxes_2000b_matches_erfa_test_vector_t_ee00b():
     # t_erfa_c.c t_ee00b: -0.8835700060003032831e-5 rad (tol 1e-18 there; ours uses obl06, see EE00B_TOL_RAD).
-    assert (
-        abs(float(equation_of_equinoxes_rad(2400000.5, 53736.0)) + 0.8835700060003032831e-5) <= EE00B_TOL_RAD
-    )
+    value = equation_of_equinoxes_rad(2400000.5, 53736.0, nutation="2000B")
+    assert abs(float(value) + 0.8835700060003032831e-5) <= EE00B_TOL_RAD
+
+
+@pytest.mark.parametrize("bad", ["2000a", "IAU2000A", "2006A", None, 2000])
+def test_unknown_nutation_model_is_refused_with_the_choices(bad):
+    with pytest.raises(ValueError, match=r'nutation must be "2000A" .* or "2000B" .*got'):
+        gast_rad(Z, 53736.0, Z, 53736.0, nutation=bad)
+    with pytest.raises(ValueError, match="nutation must be"):
+        FastSidereal(DEMO_NIGHT_START_UNIX, DEMO_NIGHT_END_UNIX, nutation=bad)
 
 
 def test_complementary_terms_match_erfa_test_vector_t_eect00():
@@ -179,6 +209,20 @@ def test_last_matches_erfa_gst06a_plus_longitude(unix, lon_deg, dut1):
     inst = instants_from_unix(unix, dut1_seconds=dut1)
     ref = erfa.gst06a(inst.ut1_whole, inst.ut1_frac, inst.tt_whole, inst.tt_frac) * 12 / np.pi + lon_deg / 15
     assert abs(float(_wrap_12(last_hours(inst, lon_deg) - ref))) * 3600 <= LAST_VS_GST06A_TOL_SECONDS
+    # The 2000B path stays available, held to its own bound.
+    last_b = last_hours(inst, lon_deg, nutation="2000B")
+    assert abs(float(_wrap_12(last_b - ref))) * 3600 <= LAST_2000B_VS_GST06A_TOL_SECONDS
+
+
+@settings(max_examples=40, deadline=None, database=None)
+@given(st.floats(UNIX_1900, UNIX_2100), st.floats(600.0, 3 * 86400.0), st.floats(-180.0, 180.0),
+       st.floats(-0.9, 0.9))
+def test_fast_sidereal_matches_erfa_gst06a_plus_longitude(start_unix, length_seconds, lon_deg, dut1):
+    fast = FastSidereal(start_unix, start_unix + length_seconds, dut1_seconds=dut1)
+    unix = np.linspace(start_unix, start_unix + length_seconds, 9)
+    inst = instants_from_unix(unix, dut1_seconds=dut1)
+    ref = erfa.gst06a(inst.ut1_whole, inst.ut1_frac, inst.tt_whole, inst.tt_frac) * 12 / np.pi + lon_deg / 15
+    assert np.abs(_wrap_12(fast.last_hours(unix, lon_deg) - ref)).max() * 3600 <= FAST_VS_GST06A_TOL_SECONDS
 
 
 @pytest.mark.slow
@@ -194,14 +238,16 @@ def test_last_vectorised_against_erfa_over_two_centuries():
         np.abs(_wrap_pi(gmst_rad(u1, u2, t1, t2) - erfa.gmst06(u1, u2, t1, t2))).max() * SECONDS_PER_RAD
         <= LMST_TOL_SECONDS
     )
-    assert (
-        np.abs(_wrap_pi(gast_rad(u1, u2, t1, t2) - erfa.gst06a(u1, u2, t1, t2))).max() * SECONDS_PER_RAD
-        <= LAST_VS_GST06A_TOL_SECONDS
-    )
-    # The same IAU 2006 GMST + 2000B EE model assembled from ERFA routines agrees to round-off.
-    dpsi, _ = erfa.nut00b(t1, t2)
-    same = erfa.gmst06(u1, u2, t1, t2) + dpsi * np.cos(erfa.obl06(t1, t2)) + erfa.eect00(t1, t2)
-    assert np.abs(_wrap_pi(gast_rad(u1, u2, t1, t2) - same)).max() <= SAME_MODEL_TOL_RAD
+    gast = gast_rad(u1, u2, t1, t2)
+    gst06a = erfa.gst06a(u1, u2, t1, t2)
+    assert np.abs(_wrap_pi(gast - gst06a)).max() * SECONDS_PER_RAD <= LAST_VS_GST06A_TOL_SECONDS
+    gast_b = gast_rad(u1, u2, t1, t2, nutation="2000B")
+    assert np.abs(_wrap_pi(gast_b - gst06a)).max() * SECONDS_PER_RAD <= LAST_2000B_VS_GST06A_TOL_SECONDS
+    # The same IAU 2006 GMST + EE models assembled from ERFA routines agree to round-off.
+    for ours, nutation in ((gast, erfa.nut06a), (gast_b, erfa.nut00b)):
+        dpsi, _ = nutation(t1, t2)
+        same = erfa.gmst06(u1, u2, t1, t2) + dpsi * np.cos(erfa.obl06(t1, t2)) + erfa.eect00(t1, t2)
+        assert np.abs(_wrap_pi(ours - same)).max() <= SAME_MODEL_TOL_RAD
 
 
 # --- handbook and common practice ----------------------------------------------------------------
@@ -243,29 +289,35 @@ def test_sidereal_day_is_23h56m4_09s_of_mean_solar_time():
 # --- FastSidereal and find_lst_unix ---------------------------------------------------------------
 
 
-@pytest.mark.slow
 def test_fast_sidereal_matches_exact_model_and_gst06a_on_demo_night():
     fast = FastSidereal(DEMO_NIGHT_START_UNIX, DEMO_NIGHT_END_UNIX, dut1_seconds=0.08)
-    unix = np.linspace(DEMO_NIGHT_START_UNIX, DEMO_NIGHT_END_UNIX, 20001)
+    # Every 30 s of the 17 h night: the fit error varies over hours, so this grid sees its peaks.
+    unix = np.linspace(DEMO_NIGHT_START_UNIX, DEMO_NIGHT_END_UNIX, 2041)
     inst = instants_from_unix(unix, dut1_seconds=0.08)
     exact = last_hours(inst, DEMO_LON_DEG)
     got = fast.last_hours(unix, DEMO_LON_DEG)
     assert np.abs(_wrap_12(got - exact)).max() * 3600 <= FAST_VS_EXACT_TOL_SECONDS
-    few = inst[::10]  # pyerfa gst06a costs ~50 us per instant: 2 001 of them
+    few = inst[::4]  # pyerfa gst06a costs ~50 us per instant: 511 of them
     ref = erfa.gst06a(few.ut1_whole, few.ut1_frac, few.tt_whole, few.tt_frac) * 12 / np.pi + DEMO_LON_DEG / 15
-    assert np.abs(_wrap_12(got[::10] - ref)).max() * 3600 <= LAST_VS_GST06A_DEMO_NIGHT_TOL_SECONDS
+    assert np.abs(_wrap_12(got[::4] - ref)).max() * 3600 <= FAST_VS_GST06A_TOL_SECONDS
     mean = fast.lmst_hours(unix, DEMO_LON_DEG)
     assert np.abs(_wrap_12(mean - lmst_hours(inst, DEMO_LON_DEG))).max() * 3600 <= FAST_VS_EXACT_TOL_SECONDS
     assert np.all((got >= 0) & (got < 24))
+    # The 2000B path: same fit, the 2000B model; within the requirement on this night.
+    fast_b = FastSidereal(DEMO_NIGHT_START_UNIX, DEMO_NIGHT_END_UNIX, dut1_seconds=0.08, nutation="2000B")
+    got_b = fast_b.last_hours(unix, DEMO_LON_DEG)
+    exact_b = last_hours(inst, DEMO_LON_DEG, nutation="2000B")
+    assert np.abs(_wrap_12(got_b - exact_b)).max() * 3600 <= FAST_VS_EXACT_TOL_SECONDS
+    assert np.abs(_wrap_12(got_b[::4] - ref)).max() * 3600 <= REQUIRED_LAST_SECONDS
 
 
 def test_fast_sidereal_multi_day_window_broadcasts_longitudes():
     start = DEMO_NIGHT_START_UNIX
     fast = FastSidereal(start, start + 5 * 86400)
-    unix = np.linspace(start, start + 5 * 86400, 3000).reshape(3, 1000, 1)
+    unix = np.linspace(start, start + 5 * 86400, 600).reshape(3, 200, 1)  # 20 min apart
     lons = np.array([-120.0, DEMO_LON_DEG, 45.0])
     got = fast.last_hours(unix, lons)
-    assert got.shape == (3, 1000, 3)
+    assert got.shape == (3, 200, 3)
     exact = last_hours(instants_from_unix(unix), lons)
     assert np.abs(_wrap_12(got - exact)).max() * 3600 <= FAST_VS_EXACT_TOL_SECONDS
     assert isinstance(fast.last_hours(start + 10.0, 0.0), np.float64)
