@@ -521,6 +521,7 @@ class _Row:
     az_deg: float
     airmass: float
     rising: bool
+    fixed: bool  # a fixed hour-angle pointing: neither rising nor setting
     up: bool
     muted: bool
     near_sun: bool
@@ -594,7 +595,7 @@ def _target_rows(inputs: BoardInputs) -> list[_Row]:
         next_seconds = next_event.time_utc.timestamp() - now_unix if next_event is not None else math.inf
         rows.append(_Row(
             name=name, ha_hours=ha_now, dec_deg=dec[i], alt_deg=alt[i], az_deg=az[i], airmass=airmass[i],
-            rising=bool(rising[i]), up=up, muted=muted,
+            rising=bool(rising[i]), fixed=sky.frames[i] == "hadec", up=up, muted=muted,
             near_sun=sun_up_enough and sun_sep[i] < SUN_CAUTION_SEPARATION_DEG,
             culm_seconds=culm_seconds, culm_usable=culm_usable,
             flip_text=flip_text, flip_style=flip_style, limit_text=limit_text, limit_style=limit_style,
@@ -640,6 +641,8 @@ def _cell_value(row: _Row, key: str, now_utc: datetime, base: str) -> tuple[str,
         x = row.airmass
         return ("" if not math.isfinite(x) else ("9.9+" if x >= 9.95 else f"{x:.2f}")), base
     if key == "trend":
+        if row.fixed:
+            return "", base
         return ("↑", "siderod.rising") if row.rising else ("↓", "siderod.setting")
     if key == "culm":
         style = "siderod.countdown" if row.culm_usable else "siderod.dim"

@@ -77,7 +77,7 @@ def fake_sky(names, *, ha, alt, rising, sun_sep=None, sun_alt=-40.0, last_hours=
         names=tuple(names), ha_hours=np.array(ha, float), dec_deg=np.linspace(-20, 60, n),
         alt_deg=np.array(alt, float), az_deg=np.linspace(10, 350, n),
         airmass=np.where(alt_array > 0, 1 / np.sin(np.radians(np.maximum(alt_array, 1))), np.nan),
-        rising=np.array(rising, bool), min_alt_deg=np.full(n, 10.0),
+        rising=np.array(rising, bool), frames=("icrs",) * n, min_alt_deg=np.full(n, 10.0),
         sun_separation_deg=np.array(sun_sep if sun_sep is not None else [90.0] * n, float),
         lmst_hours=lmst_hours, last_hours=last_hours, sun_alt_deg=sun_alt, sun_az_deg=0.0, moon_alt_deg=20.0,
         moon_az_deg=90.0, moon_illuminated_fraction=0.25, twilight="night",
@@ -317,7 +317,6 @@ def test_with_colour_the_named_styles_are_used():
 
 @pytest.fixture(scope="module")
 def demo_frame():
-    pytest.importorskip("siderod.agenda")
     from siderod.agenda import compute_agenda
     from siderod.config import load_config
     from siderod.view.board import inputs_from_config
@@ -364,6 +363,17 @@ def test_demo_countdowns_match_the_agenda(demo_frame):
             elif not of_kind:
                 assert shown == "", (name, kind, row)
     assert checked >= 2 * len(rows)
+
+
+@pytest.mark.slow
+def test_fixed_pointings_are_neither_rising_nor_setting(demo_frame):
+    header = next(line for line in demo_frame.text.splitlines() if line.startswith("target "))
+    rows = {row[:20].rstrip(): row for row in table_rows(demo_frame.text)}
+    drift = next(row for name, row in rows.items() if name.startswith("Drift scan"))
+    m42 = rows["M42"]
+    trend_at = header.index("X") + 2  # the arrow column follows the airmass column
+    assert m42[trend_at:trend_at + 2].strip() in {"↑", "↓"}
+    assert drift[trend_at:trend_at + 2].strip() == ""
 
 
 @pytest.mark.slow

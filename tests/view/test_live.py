@@ -32,7 +32,7 @@ def _plain_terminal_environment(monkeypatch):
 def sky():
     return SimpleNamespace(
         names=("M42",), ha_hours=np.array([-1.0]), dec_deg=np.array([-5.4]), alt_deg=np.array([25.0]),
-        az_deg=np.array([150.0]), airmass=np.array([2.3]), rising=np.array([True]),
+        az_deg=np.array([150.0]), airmass=np.array([2.3]), rising=np.array([True]), frames=("icrs",),
         min_alt_deg=np.array([10.0]), sun_separation_deg=np.array([120.0]), lmst_hours=3.5, last_hours=3.5,
         sun_alt_deg=-40.0, sun_az_deg=0.0, moon_alt_deg=10.0, moon_az_deg=90.0, moon_illuminated_fraction=0.3,
         twilight="night",
