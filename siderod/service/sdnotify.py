@@ -34,7 +34,10 @@ def notify(message: str, env: Mapping[str, str] | None = None) -> bool:
         return False
     target = "\0" + address[1:] if address[0] == "@" else address
     try:
-        with socket.socket(socket.AF_UNIX, socket.SOCK_DGRAM | socket.SOCK_CLOEXEC) as sock:
+        # Non-blocking: a manager that stops reading fills the kernel queue (net.unix.max_dgram_qlen),
+        # and a blocking send would then freeze the whole event loop.
+        kind = socket.SOCK_DGRAM | socket.SOCK_CLOEXEC | socket.SOCK_NONBLOCK
+        with socket.socket(socket.AF_UNIX, kind) as sock:
             sock.sendto(message.encode("utf-8", "replace"), target)
     except OSError:
         return False

@@ -35,6 +35,23 @@ def abstract_receiver():
     sock.close()
 
 
+def test_a_manager_that_stops_reading_never_blocks_the_sender(path_receiver):
+    """The kernel queues only net.unix.max_dgram_qlen datagrams (10 by default); past that a
+    blocking send would hang the service's event loop. Sends must fail quickly instead."""
+    import threading
+
+    _, address = path_receiver  # bound, never read
+    results: list[bool] = []
+    sender = threading.Thread(
+        target=lambda: results.extend(notify("WATCHDOG=1", {"NOTIFY_SOCKET": address}) for _ in range(200)),
+        daemon=True,
+    )
+    sender.start()
+    sender.join(timeout=5.0)
+    assert not sender.is_alive(), "notify() blocked on a full queue"
+    assert results[0] is True and results[-1] is False  # the first ones queue, the rest are refused
+
+
 @pytest.mark.parametrize("receiver", ["path_receiver", "abstract_receiver"])
 def test_messages_arrive_in_order(receiver, request):
     sock, address = request.getfixturevalue(receiver)
