@@ -242,8 +242,8 @@ def dut1_at(config: Config, unix_seconds: float) -> tuple[float, str]:
 
 def _site(problems: Problems, data: Mapping[str, Any]) -> Site | None:
     table = read_table(problems, data, "site", "", _SITE_KEYS)
-    if not table:
-        return None
+    if not isinstance(data.get("site"), dict):
+        return None  # missing or not a table: already reported
     name = read_string(problems, table, "name", "site", what="the site's name in quotes")
     lat = read_angle(problems, table, "latitude", "site", kind="lat", what="a latitude (north positive)")
     lon = read_angle(problems, table, "longitude", "site", kind="lon",

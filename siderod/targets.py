@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import csv
 import io
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping
 from typing import Any
 
 from siderod.model import EventKind, Frame, Target
@@ -118,10 +118,8 @@ def collect_targets_csv(problems: Problems) -> tuple[Target, ...]:
     """Like :func:`parse_targets_csv`, but records problems in ``problems`` instead of raising."""
     targets: list[Target] = []
     seen: dict[str, int] = {}
-    reader = csv.reader(io.StringIO(problems.text))
     first_row = True
-    for row in reader:
-        line = reader.line_num
+    for line, row in _csv_rows(problems):
         cells = [c.strip() for c in row]
         if not any(cells) or cells[0].startswith("#"):
             continue
@@ -194,6 +192,21 @@ def parse_lead_minutes(
 
 # ---------------------------------------------------------------------------------------------
 # helpers
+
+
+def _csv_rows(problems: Problems) -> Iterator[tuple[int, list[str]]]:
+    """(line, cells) per CSV row; a row the csv module cannot read is recorded and ends the file."""
+    # newline="": the csv module reads line ends itself, so a stray carriage return is not an error.
+    reader = csv.reader(io.StringIO(problems.text, newline=""))
+    while True:
+        try:
+            row = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:
+            problems.add("row", "", f"CSV text, name,ra,dec on each line ({exc})", line=reader.line_num or 1)
+            return
+        yield reader.line_num, row
 
 
 def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Target | None:

@@ -363,6 +363,12 @@ class Problems:
                     shown = json.dumps(lines[line - 1].strip(), ensure_ascii=False)
             self.add("", shown, f"valid TOML ({reason})", line=line)
             return None
+        except ValueError as exc:
+            # tomllib lets int()'s digit limit (4300 digits) through as a plain ValueError.
+            match = re.search(r"[0-9_]{4300,}", self.text)
+            line = self.text.count("\n", 0, match.start()) + 1 if match else None
+            self.add("", "an integer too long to read", f"valid TOML with shorter numbers ({exc})", line=line)
+            return None
 
     def unknown_keys(self, table: Mapping[str, Any], allowed: Collection[str], prefix: str) -> None:
         """Record an error for every key of ``table`` not in ``allowed``, with a "did you mean"."""
@@ -419,7 +425,7 @@ def read_number(problems: Problems, data: Mapping[str, Any], key: str, prefix: s
     if key not in data:
         return _absent(problems, path, default, what)
     value = data[key]
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not _finite(value):
         problems.add(path, show_value(value), what + _range_text(low, high, low_open, high_open))
         return None
     return check_range(problems, path, float(value), show_value(value), what,
@@ -465,6 +471,9 @@ def parse_angle_value(problems: Problems, path: str, value: Any, *, kind: str,
     except AngleParseError as exc:
         problems.add(path, show_value(value), f"{what}: {exc.reason}; accepted forms: {_accepted(exc)}")
         return None
+    except OverflowError:  # an integer too large for a float (TOML integers have no size limit)
+        problems.add(path, show_value(value), f"{what}: a number of sensible size")
+        return None
     checked = check_range(problems, path, deg / scale, show_value(value), f"{what} in {unit}", low, high,
                           low_open, high_open)
     return None if checked is None else deg
@@ -509,6 +518,14 @@ def read_choice(problems: Problems, data: Mapping[str, Any], key: str, prefix: s
         problems.add(path, show_value(value), f"one of {listed}{hint}")
         return None
     return convert(value) if convert else value
+
+
+def _finite(value: float) -> bool:
+    """``math.isfinite`` that says False, not OverflowError, for an integer too large for a float."""
+    try:
+        return math.isfinite(value)
+    except OverflowError:
+        return False
 
 
 def _absent(problems: Problems, path: str, default: Any, what: str) -> Any:

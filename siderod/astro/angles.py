@@ -86,9 +86,12 @@ def parse_angle_deg(text: str | float, *, kind: AngleKind) -> float:
         value_deg = _parse_text_deg(text, kind)
         shown = text
     else:
-        value = float(text)
+        try:
+            value = float(text)
+        except OverflowError:  # an integer too large for a float, as TOML allows
+            value = math.inf
         if not math.isfinite(value):
-            raise AngleParseError(repr(text), kind, "the number is not finite")
+            raise AngleParseError(repr(text)[:40], kind, "the number is not finite")
         value_deg = value * 15.0 if kind == "hour_angle" else value
         shown = repr(text)
     _check_range(value_deg, shown, kind)

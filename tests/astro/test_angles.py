@@ -89,6 +89,8 @@ def test_parse_angle_rejects_unknown_kind_and_non_numbers():
         parse_angle_deg(True, kind="angle")
     with pytest.raises(AngleParseError, match="not finite"):
         parse_angle_deg(float("nan"), kind="angle")
+    with pytest.raises(AngleParseError, match="not finite"):  # TOML integers have no size limit
+        parse_angle_deg(10**400, kind="dec")
 
 
 def test_format_hms_and_dms_examples():
