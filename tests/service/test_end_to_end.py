@@ -1,0 +1,334 @@
+"""End to end: a real ``python -m siderod run`` process, driven by the real CLI verbs.
+
+The service runs on the wall clock against a copy of the demo configuration (desktop off, a command
+hook that appends each alert's title to a file), with ``NOTIFY_SOCKET`` bound by the test, so the
+sd_notify messages systemd would see are checked too. Real processes mean real time: every wait polls
+(every 50 ms) up to a deadline and never sleeps for correctness.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import re
+import shutil
+import signal
+import socket
+import subprocess
+import sys
+import tempfile
+import threading
+import time
+import uuid
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+
+import pytest
+
+pytestmark = pytest.mark.slow
+
+REPO = Path(__file__).resolve().parents[2]
+DEMO_DIR = REPO / "siderod" / "demo"
+#: Python start-up, numpy, the IERS table and the first 36-hour agenda of the demo targets, and one
+#: configuration file poll (5 s in the service) on a shared two-core machine.
+DEADLINE_SECONDS = 20.0
+POLL_SECONDS = 0.05
+#: WATCHDOG_USEC given to the service: it pings every half of it (systemd's advice).
+WATCHDOG_USEC = 2_000_000
+#: The mute is for 1 h; the service's clock read and ours differ by the CLI's run time only.
+MUTE_SLACK_SECONDS = 60.0
+#: The hook: append argv[2] (the title) as one line to argv[1]. No braces: the argv is a template.
+HOOK_CODE = 'import sys; f = open(sys.argv[1], "a"); f.write(sys.argv[2].replace(chr(10), " ") + chr(10))'
+#: The first target of demo-targets.toml and the line that gives its RA.
+GOOD_RA_LINE = 'ra = "05h35m17.3s"'
+BAD_RA_LINE = 'ra = "5h61m"'  # 61 minutes: invalid
+PROMPT = "siderod-e2e$ "
+
+
+def wait_until(predicate, what: str, deadline_seconds: float = DEADLINE_SECONDS):
+    """Poll ``predicate`` every 50 ms until it returns something truthy; fail after the deadline."""
+    end = time.monotonic() + deadline_seconds
+    while True:
+        value = predicate()
+        if value:
+            return value
+        if time.monotonic() > end:
+            raise AssertionError(f"timed out after {deadline_seconds:g} s waiting for {what}")
+        time.sleep(POLL_SECONDS)
+
+
+def toml_string(text: str) -> str:
+    return json.dumps(text)  # a JSON string is a valid TOML basic string
+
+
+def write_demo_copy(directory: Path, hook_file: Path) -> tuple[Path, Path]:
+    """The demo configuration and targets, copied, with desktop off and the command hook on."""
+    text = (DEMO_DIR / "demo.toml").read_text()
+    hook = ", ".join(toml_string(a) for a in (sys.executable, "-c", HOOK_CODE, str(hook_file), "{title}"))
+    assert text.count("\ndesktop = true\n") == 1
+    text = text.replace("\ndesktop = true\n", f"\ndesktop = false\ncommand = [{hook}]\n")
+    config = directory / "config.toml"
+    config.write_text(text)
+    targets = directory / "demo-targets.toml"
+    targets.write_text((DEMO_DIR / "demo-targets.toml").read_text())
+    assert targets.read_text().count(GOOD_RA_LINE) == 1
+    return config, targets
+
+
+class NotifyReceiver:
+    """The systemd side of sd_notify: a datagram socket, read promptly by a thread, as systemd does.
+
+    Reading promptly matters: Linux queues only ``net.unix.max_dgram_qlen`` (often 10) datagrams,
+    and the service's send blocks once the queue is full.
+    """
+
+    def __init__(self, path: Path) -> None:
+        self.path = path
+        self.sock = socket.socket(socket.AF_UNIX, socket.SOCK_DGRAM)
+        self.sock.bind(str(path))
+        self.sock.settimeout(POLL_SECONDS)
+        self._messages: list[str] = []
+        self._lock = threading.Lock()
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._read, name="notify-receiver", daemon=True)
+        self._thread.start()
+
+    def _read(self) -> None:
+        while not self._stop.is_set():
+            try:
+                data = self.sock.recv(4096)
+            except TimeoutError:
+                continue
+            except OSError:
+                return
+            with self._lock:
+                self._messages.append(data.decode())
+
+    @property
+    def messages(self) -> list[str]:
+        with self._lock:
+            return list(self._messages)
+
+    def close(self) -> None:
+        self._stop.set()
+        self._thread.join(timeout=5)
+        self.sock.close()
+
+
+@pytest.fixture
+def short_dir():
+    """A directory under /tmp: unix socket paths are limited to 107 bytes, tmp_path can be longer."""
+    directory = Path(tempfile.mkdtemp(prefix="sde2e", dir="/tmp"))
+    try:
+        yield directory
+    finally:
+        shutil.rmtree(directory, ignore_errors=True)
+
+
+def service_env(directory: Path) -> dict[str, str]:
+    env = dict(os.environ)
+    for name in ("NOTIFY_SOCKET", "WATCHDOG_USEC", "WATCHDOG_PID", "SIDEROD_CONFIG", "COLUMNS", "LINES",
+                 "DBUS_SESSION_BUS_ADDRESS"):
+        env.pop(name, None)
+    for name, sub in (("XDG_RUNTIME_DIR", "run"), ("XDG_STATE_HOME", "state"), ("XDG_CONFIG_HOME", "config")):
+        (directory / sub).mkdir(mode=0o700, exist_ok=True)
+        env[name] = str(directory / sub)
+    env["HOME"] = str(directory)
+    return env
+
+
+def siderod(env: dict[str, str], *args: str, timeout: float = 30.0) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "siderod", *args], env=env, cwd=REPO, capture_output=True,
+                          text=True, timeout=timeout, check=False)
+
+
+def status_json(env: dict[str, str]) -> dict:
+    done = siderod(env, "status", "--json")
+    log_file = Path(env["HOME"]) / "service.log"
+    assert done.returncode == 0, done.stderr + (log_file.read_text() if log_file.exists() else "")
+    return json.loads(done.stdout)
+
+
+def hook_lines(hook_file: Path) -> list[str]:
+    return hook_file.read_text().splitlines() if hook_file.exists() else []
+
+
+def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanly(short_dir):
+    hook_file = short_dir / "hook.txt"
+    config, targets = write_demo_copy(short_dir, hook_file)
+    env = service_env(short_dir)
+    receiver = NotifyReceiver(short_dir / "notify.sock")
+    env.update(NOTIFY_SOCKET=str(receiver.path), WATCHDOG_USEC=str(WATCHDOG_USEC))
+    socket_path = short_dir / "run" / "siderod" / "control.sock"
+    assert len(os.fsencode(socket_path)) < 108
+    log_file = short_dir / "service.log"
+    with open(log_file, "w") as log:
+        process = subprocess.Popen(
+            [sys.executable, "-m", "siderod", "run", "--no-view", "--config", str(config)],
+            env=env, cwd=REPO, stdin=subprocess.DEVNULL, stdout=log, stderr=subprocess.STDOUT,
+        )
+    try:
+        # READY=1 comes once the first plan is made: with it, a STATUS= naming the next alert, and a
+        # STATUS= from the plan itself before it. Watchdog pings start after READY.
+        messages = wait_until(lambda: (m := receiver.messages) and any("READY=1" in x for x in m) and m,
+                              "READY=1")
+        ready_index = next(i for i, m in enumerate(messages) if "READY=1" in m)
+        ready_status = re.search(r"^STATUS=next alert \d\d:\d\d:\d\d UTC: (.+)$", messages[ready_index], re.M)
+        assert ready_status, messages[ready_index]
+        assert any(m.startswith("STATUS=") for m in messages[:ready_index]), messages
+        wait_until(lambda: sum("WATCHDOG=1" in m for m in receiver.messages) >= 2, "two WATCHDOG=1 pings",
+                   deadline_seconds=4 * WATCHDOG_USEC / 1e6)
+        assert not any("WATCHDOG=1" in m for m in receiver.messages[:ready_index])
+
+        status = status_json(env)
+        assert status["site"]["name"] == "Corrie Hill Observatory"
+        assert status["config_path"] == str(config)
+        assert status["uptime_seconds"] > 0
+        assert status["planned_count"] > 0 and status["next_alerts"]
+        assert status["config_error"] == ""
+        # The alert READY named is planned, or has gone out since (its title then may carry a
+        # "[late N min]" mark, and for a moment it may be on its way: hence the poll).
+        wait_until(lambda: ready_status[1] in [a["title"] for a in status_json(env)["next_alerts"]]
+                   or any(line.endswith(ready_status[1]) for line in hook_lines(hook_file)),
+                   f"the alert named by READY ({ready_status[1]}) planned or delivered")
+
+        done = siderod(env, "mute", "M42", "--for", "1h")
+        assert done.returncode == 0, done.stderr
+        muted = status_json(env)["muted"]
+        assert set(muted) == {"M42"}
+        until_utc = datetime.fromisoformat(muted["M42"].replace("Z", "+00:00"))
+        expected_utc = datetime.now(UTC) + timedelta(hours=1)
+        assert abs(until_utc - expected_utc) < timedelta(seconds=MUTE_SLACK_SECONDS)
+
+        before = len(hook_lines(hook_file))
+        done = siderod(env, "test-alert")
+        assert done.returncode == 0, done.stdout + done.stderr
+        assert "command: ok" in done.stdout
+        assert "siderod test alert" in hook_lines(hook_file)[before:]
+
+        # An invalid target file: the service stays on the last good configuration and says where.
+        good_text = targets.read_text()
+        bad_line = good_text.splitlines().index(GOOD_RA_LINE) + 1
+        targets.write_text(good_text.replace(GOOD_RA_LINE, BAD_RA_LINE))
+        error = wait_until(lambda: status_json(env)["config_error"], "config_error after the bad edit")
+        assert f"{targets}:{bad_line}: target[1].ra:" in error, error
+        assert '"5h61m"' in error
+        assert process.poll() is None
+        wait_until(lambda: any("configuration not reloaded" in line for line in hook_lines(hook_file)),
+                   "the alert about the bad configuration")
+        still = status_json(env)
+        assert still["site"]["name"] == "Corrie Hill Observatory" and still["planned_count"] > 0
+
+        targets.write_text(good_text)
+        wait_until(lambda: status_json(env)["config_error"] == "", "config_error cleared after the fix")
+        assert sum("configuration not reloaded" in line for line in hook_lines(hook_file)) == 1
+        log_lines = log_file.read_text().splitlines()
+        assert sum("ERROR siderod.service: configuration not reloaded" in line for line in log_lines) == 1
+        alert_lines = [line for line in log_lines if "ALERT service|" in line]
+        assert sum("configuration not reloaded" in line for line in alert_lines) == 1
+
+        done = siderod(env, "watch", "--once")  # stdout is a pipe here, not a terminal
+        assert done.returncode == 0, done.stderr
+        assert "from the service" in done.stdout, done.stdout
+        assert "Corrie Hill Observatory" in done.stdout
+
+        process.send_signal(signal.SIGTERM)
+        assert process.wait(timeout=DEADLINE_SECONDS) == 0, log_file.read_text()
+        wait_until(lambda: any("STOPPING=1" in m for m in receiver.messages), "STOPPING=1")
+        if socket_path.exists():
+            with socket.socket(socket.AF_UNIX, socket.SOCK_STREAM) as probe, pytest.raises(OSError):
+                probe.connect(str(socket_path))
+        assert siderod(env, "status").returncode == 3  # EXIT_NOT_RUNNING
+        assert "Traceback" not in log_file.read_text()
+    finally:
+        if process.poll() is None:
+            process.kill()
+            process.wait(timeout=10)
+        receiver.close()
+
+
+# -- the live board and the service in one real terminal --------------------------------------------
+
+
+class Tmux:
+    """A private tmux server (``-L``), so nobody's own sessions are touched."""
+
+    def __init__(self, env: dict[str, str]) -> None:
+        self.name = f"siderod-e2e-{uuid.uuid4().hex[:12]}"
+        self.env = env
+
+    def __call__(self, *args: str) -> str:
+        return subprocess.run(["tmux", "-L", self.name, "-f", "/dev/null", *args], env=self.env,
+                              capture_output=True, text=True, timeout=10, check=True).stdout
+
+    def start(self, width: int, height: int) -> None:
+        self("new-session", "-d", "-s", "ui", "-x", str(width), "-y", str(height), "-c", str(REPO),
+             "bash --norc --noprofile")
+        wait_until(lambda: self.capture().strip(), "a shell in the pane")
+        self.type(f"PS1='{PROMPT}'; clear")
+        wait_until(lambda: self.capture().strip() == PROMPT.strip(), "the test prompt")
+
+    def type(self, line: str) -> None:
+        self("send-keys", "-t", "ui", "-l", line)
+        self("send-keys", "-t", "ui", "Enter")
+
+    def capture(self) -> str:
+        return self("capture-pane", "-p", "-t", "ui")
+
+    def steady_capture(self) -> str:
+        """Two captures in a row with the same text: never a frame half drawn."""
+        def same():
+            first = self.capture()
+            time.sleep(POLL_SECONDS)
+            return first if self.capture() == first else None
+
+        return wait_until(same, "a steady pane")
+
+    def kill(self) -> None:
+        subprocess.run(["tmux", "-L", self.name, "kill-server"], env=self.env, capture_output=True,
+                       timeout=10, check=False)
+
+
+def board_is_whole(text: str) -> bool:
+    """One title, the clock right under it, the table header once, and no log text inside the board."""
+    lines = text.splitlines()
+    titles = [i for i, line in enumerate(lines) if line.startswith("siderod Corrie Hill Observatory")]
+    if len(titles) != 1 or titles[0] + 1 >= len(lines):
+        return False
+    board = lines[titles[0]:]
+    return ("apparent " in board[1] and sum(line.startswith("target ") for line in board) == 1
+            and not any(re.search(r"\b(INFO|WARNING|ERROR)\b|ALERT ", line) for line in board))
+
+
+@pytest.mark.needs_tmux
+def test_run_with_the_board_in_tmux_keeps_it_whole_under_log_lines_and_ctrl_c_leaves_a_prompt(
+        short_dir, tool):
+    tool("tmux")
+    hook_file = short_dir / "hook.txt"
+    config, _ = write_demo_copy(short_dir, hook_file)
+    env = service_env(short_dir)
+    env.update(TERM="xterm-256color", LANG="C.UTF-8", PS1=PROMPT)
+    tmux = Tmux(env)
+    try:
+        tmux.start(100, 30)
+        tmux.type(f"{sys.executable} -m siderod run --config {config}")
+        wait_until(lambda: "this service" in (t := tmux.capture()) and re.search(r"apparent \d\dh", t),
+                   "the board with its apparent LST")
+        # Log lines while the board is up: the test alert's ALERT line and the mute's line.
+        assert siderod(env, "test-alert").returncode == 0
+        assert siderod(env, "mute", "M42", "--for", "1h").returncode == 0
+        text = wait_until(lambda: "siderod test alert" in (t := tmux.steady_capture()) and board_is_whole(t)
+                          and t, "the board redrawn whole after the log lines")
+        assert "siderod test alert" in text.split("siderod Corrie Hill Observatory")[1]  # in "last sent"
+        assert all(len(line) <= 100 for line in text.splitlines())
+
+        tmux("send-keys", "-t", "ui", "C-c")
+        text = wait_until(lambda: (t := tmux.capture()).rstrip().endswith(PROMPT.rstrip()) and t,
+                          "the prompt after Ctrl-C")
+        assert "Traceback" not in text
+        tmux.type("echo exit-status-$?")
+        wait_until(lambda: "\nexit-status-0" in tmux.capture(), "exit status 0")
+        assert tmux("display-message", "-p", "-t", "ui", "#{alternate_on} #{cursor_flag}").strip() == "0 1"
+        assert siderod(env, "status").returncode == 3  # the service went with the view
+    finally:
+        tmux.kill()
