@@ -9,15 +9,14 @@ problem comes back as a located, teaching ConfigError (path, key or line, non-em
 
 from __future__ import annotations
 
-import importlib.util
 import json
 import math
-import sys
 from dataclasses import replace
 from datetime import timedelta
 from pathlib import Path
 
 import pytest
+from helpers import service_fakes as fakes
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -230,16 +229,6 @@ def test_huge_integers_are_reported_not_raised(text):
 # -- a fuzzed reload keeps the service alive on its last good configuration -----------------------
 
 
-def _load_helper(name: str):
-    path = Path(__file__).resolve().parent / "helpers" / f"{name}.py"
-    spec = importlib.util.spec_from_file_location(f"siderod_test_helpers_{name}", path)
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-fakes = _load_helper("service_fakes")
 
 #: Checked alone it is valid; the fuzzed documents below are parsed in its place.
 _GOOD_TARGETS = '[[target]]\nname = "NGC 1001"\nra = "00h10m"\ndec = "+40"\n'

@@ -2,12 +2,10 @@
 
 from __future__ import annotations
 
-import importlib.util
-import sys
 from datetime import UTC, datetime, timedelta
-from pathlib import Path
 
 import pytest
+from helpers import service_fakes as fakes
 
 from siderod.clock import FakeClock
 from siderod.ledger import Ledger
@@ -15,18 +13,6 @@ from siderod.model import ClockHealth, EventKind
 from siderod.planner import plan_alerts
 from siderod.service.anomaly import STEP_TOLERANCE_SECONDS, classify_progress
 from siderod.service.scheduling import ClockScheduler
-
-
-def _load_helper(name: str):
-    path = Path(__file__).resolve().parents[1] / "helpers" / f"{name}.py"
-    spec = importlib.util.spec_from_file_location(f"siderod_test_helpers_{name}", path)
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-fakes = _load_helper("service_fakes")
 
 ANOMALY_PERIOD_SECONDS = 2.0  # the service's default check period
 # After a step or a suspend the watch notices within one period; delivery follows at once.

@@ -188,14 +188,9 @@ async def _service_with(tmp_path, channels, clock):
 
 
 def _load_fakes():
-    import importlib.util
+    from helpers import service_fakes
 
-    path = Path(__file__).resolve().parents[1] / "helpers" / "service_fakes.py"
-    spec = importlib.util.spec_from_file_location("siderod_test_helpers_service_fakes", path)
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = module
-    spec.loader.exec_module(module)
-    return module
+    return service_fakes
 
 
 async def _run_until_delivered(service, clock, due_utc, done) -> asyncio.Task:

@@ -2,28 +2,14 @@
 
 from __future__ import annotations
 
-import importlib.util
-import sys
 from datetime import timedelta
-from pathlib import Path
 
 import pytest
+from helpers import service_fakes as fakes
 
 from siderod.clock import FakeClock
 from siderod.planner import plan_alerts
 from siderod.service.scheduling import ClockScheduler
-
-
-def _load_helper(name: str):
-    path = Path(__file__).resolve().parents[1] / "helpers" / f"{name}.py"
-    spec = importlib.util.spec_from_file_location(f"siderod_test_helpers_{name}", path)
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-fakes = _load_helper("service_fakes")
 
 # The requirement: each alert within 1 s (simulated) of its due time.
 ON_TIME_SECONDS = 1.0

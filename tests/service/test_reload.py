@@ -4,34 +4,22 @@ with one alert and one log line."""
 from __future__ import annotations
 
 import asyncio
-import importlib.util
 import logging
 import os
 import signal
-import sys
 import tomllib
 from dataclasses import replace
 from datetime import timedelta
 from pathlib import Path
 
 import pytest
+from helpers import service_fakes as fakes
 
 from siderod.clock import FakeClock
 from siderod.errors import ConfigError, ConfigErrors
 from siderod.model import ClockHealth, Event, EventKind
 from siderod.service.scheduling import ClockScheduler
 
-
-def _load_helper(name: str):
-    path = Path(__file__).resolve().parents[1] / "helpers" / f"{name}.py"
-    spec = importlib.util.spec_from_file_location(f"siderod_test_helpers_{name}", path)
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-fakes = _load_helper("service_fakes")
 FILE_POLL_SECONDS = 5.0
 
 

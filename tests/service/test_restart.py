@@ -86,19 +86,14 @@ def test_kill_9_and_restart_never_repeats_or_loses(tmp_path):
 
 async def test_restart_resends_only_to_channels_that_had_not_taken_it(tmp_path):
     """The ledger state a kill leaves between two channels: the next start finishes the job."""
-    import importlib.util
+
+    from helpers import service_fakes as fakes
 
     from siderod.clock import FakeClock
     from siderod.model import ClockHealth, Delivery, EventKind
     from siderod.planner import plan_alerts
     from siderod.service.daemon import Service
     from siderod.service.scheduling import ClockScheduler
-
-    path = Path(__file__).resolve().parents[1] / "helpers" / "service_fakes.py"
-    spec = importlib.util.spec_from_file_location("siderod_test_helpers_service_fakes", path)
-    fakes = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = fakes
-    spec.loader.exec_module(fakes)
 
     config = fakes.make_config(targets=("NGC 1001",), lead_minutes={EventKind.CULMINATION: (0.0,)})
     events = [e for e in fakes.synthetic_night(("NGC 1001",)) if e.kind is EventKind.CULMINATION]

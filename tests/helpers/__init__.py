@@ -1,0 +1,1 @@
+"""Test helpers: fakes and servers the tests drive; never collected as tests."""
