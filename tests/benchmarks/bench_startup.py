@@ -1,0 +1,56 @@
+"""Benchmark: a cold `siderod now` on the demo against the usual one-off way to get an LST.
+
+Run:  python tests/benchmarks/bench_startup.py [--runs 9]
+
+Each case is a fresh interpreter (so imports are paid every time), timed from start to exit;
+the median of --runs runs is printed. The reference is what a user would otherwise type for one
+apparent LST at a site: astropy's ``Time.sidereal_time("apparent", longitude)`` (astropy is a
+test-only reference here; it runs offline with its bundled IERS tables). The aim from the
+foundation issue: a cold `siderod now` on the demo in at most 0.5 s.
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import subprocess
+import sys
+import time
+
+CASES = {
+    "python -c pass (interpreter floor)": [sys.executable, "-c", "pass"],
+    "siderod now --json (demo, 14 targets)": [sys.executable, "-m", "siderod", "now", "--json"],
+    "siderod status (no service: the quick path)": [sys.executable, "-m", "siderod", "status"],
+    "astropy Time.sidereal_time('apparent') (reference)": [
+        sys.executable,
+        "-c",
+        "from astropy.utils import iers; iers.conf.auto_download = False\n"
+        "from astropy.time import Time\n"
+        "print(Time('2026-12-14T22:30:00', scale='utc').sidereal_time('apparent', longitude=-3.6875))",
+    ],
+}
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--runs", type=int, default=9)
+    runs = parser.parse_args().runs
+    medians = {}
+    for name, argv in CASES.items():
+        subprocess.run(argv, capture_output=True)  # warm the file cache
+        samples = []
+        for _ in range(runs):
+            start = time.perf_counter()
+            subprocess.run(argv, capture_output=True)
+            samples.append(time.perf_counter() - start)
+        medians[name] = statistics.median(samples)
+        print(f"{name:55s} median {medians[name] * 1000:7.0f} ms  (min {min(samples) * 1000:.0f}, "
+              f"max {max(samples) * 1000:.0f})")
+    ours = medians["siderod now --json (demo, 14 targets)"]
+    reference = medians["astropy Time.sidereal_time('apparent') (reference)"]
+    print(f"\ncold `siderod now`: {ours:.2f} s (aim <= 0.5 s); astropy one-off LST: {reference:.2f} s; "
+          f"ratio {reference / ours:.1f}x")
+
+
+if __name__ == "__main__":
+    main()
