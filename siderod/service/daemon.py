@@ -209,7 +209,14 @@ class Service:
             await self.replan("start")
             self._notify("READY=1\n" + self._status_line())
             self._ready.set()
-            log.info("siderod service running: config %s, ledger %s", self.config.path, self._ledger_path)
+            log.info(
+                "siderod service running: config %s%s, ledger %s",
+                self.config.path,
+                " (the bundled demo: an invented site; write your own, see `siderod check`)"
+                if self.config.is_demo
+                else "",
+                self._ledger_path,
+            )
             try:
                 async with asyncio.TaskGroup() as tasks:
                     tasks.create_task(self._delivery_worker(), name="delivery")
