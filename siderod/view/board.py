@@ -914,7 +914,7 @@ def _demo_inputs() -> BoardInputs:
     config = load_config(None, env={})
     now_utc = DEMO_INSTANT_UTC
     earlier_utc = now_utc - timedelta(hours=3)
-    agenda = compute_agenda(config, earlier_utc)
+    agenda = compute_agenda(config, earlier_utc, config.events.window_hours + 3.0)
     planned = plan_alerts(agenda, config, muted={}, now_utc=earlier_utc)
     # Invented history for the picture: what was due before the instant went out on time, but for
     # the latest, delivered 95 s late (as after a laptop lid was opened).

@@ -217,7 +217,10 @@ class BoardFeed:
         from siderod.planner import plan_alerts
 
         try:
-            agenda = await self._run_blocking(compute_agenda, config, start_utc)
+            # Cover the refresh interval too, so that a full window ahead is known at every frame
+            # (a target culminating 23 h from now still shows its flip countdown).
+            hours = config.events.window_hours + self.AGENDA_REFRESH_HOURS
+            agenda = await self._run_blocking(compute_agenda, config, start_utc, hours)
             if config is self._config:
                 self._agenda, self._agenda_start_utc = agenda, start_utc
                 self._local_alerts = plan_alerts(agenda, config, muted={}, now_utc=start_utc)
