@@ -103,9 +103,11 @@ def format_clock_warning(
     "unknown" gives no warning: siderod cannot tell, and says so elsewhere.
     """
     if health.state == "unsynchronised":
+        bound = (f" (the kernel allows an error of up to {_format_seconds(health.max_error_seconds)})"
+                 if health.max_error_seconds is not None else "")
         return (
-            "the system clock is not synchronised, so LST and alert times are only as right as the "
-            "clock; start a time daemon (chrony, ntpd or systemd-timesyncd)"
+            f"the system clock is not synchronised{bound}, so LST and alert times are only as right as "
+            "the clock; start a time daemon (chrony, ntpd or systemd-timesyncd)"
         )
     estimated = health.estimated_error_seconds
     if health.state == "synchronised" and estimated is not None and estimated > tolerance_seconds:

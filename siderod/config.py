@@ -86,7 +86,7 @@ MAX_ABS_DUT1_SECONDS = 0.9
 
 _SECTIONS = ("site", "time", "targets", "events", "mount", "alerts", "notify", "view")
 _SITE_KEYS = ("name", "latitude", "longitude", "elevation", "timezone", "pressure", "temperature", "horizon")
-_TIME_KEYS = ("dut1", "iers_file")
+_TIME_KEYS = ("dut1", "iers_file", "clock_tolerance")
 _TARGETS_KEYS = ("files",)
 _EVENTS_KEYS = ("min_altitude", "altitudes", "hour_angles", "refraction", "window_hours")
 _MOUNT_KEYS = ("kind", "flip_after", "limit_after")
@@ -318,6 +318,16 @@ def _horizon(problems: Problems, table: Mapping[str, Any]) -> tuple[tuple[float,
 def _time(problems: Problems, data: Mapping[str, Any], base_dir: str,
           at_unix: float | None) -> TimeSettings | None:
     table = read_table(problems, data, "time", "", _TIME_KEYS)
+    tolerance = read_number(problems, table, "clock_tolerance", "time", default=1.0, low=0.001,
+                            high=3600.0, what="the clock error, in seconds, above which to warn")
+    settings = _dut1_settings(problems, table, base_dir, at_unix)
+    if settings is None or tolerance is None:
+        return None
+    return replace(settings, clock_tolerance_seconds=tolerance)
+
+
+def _dut1_settings(problems: Problems, table: Mapping[str, Any], base_dir: str,
+                   at_unix: float | None) -> TimeSettings | None:
     value = table.get("dut1", 0.0)
     iers_file = read_string(problems, table, "iers_file", "time", default=None,
                             what="the path of an IERS finals2000A.all file in quotes")

@@ -221,6 +221,9 @@ class TimeSettings:
     dut1_seconds: float = 0.0
     dut1_source: str = "default (0 s)"  # "config", "iers:<file>", "default (0 s)"
     iers_path: str | None = None  # set when dut1 = "iers": the finals file found
+    # Warn when the kernel's estimated clock error exceeds this: LST is shown to 0.1 s and
+    # alerts are given to the second, so 1 s is the default trust limit.
+    clock_tolerance_seconds: float = 1.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -332,3 +335,4 @@ class ServiceSnapshot:
     config_error: str = ""  # the last failed reload, if any
     missed_count: int = 0
     planned_count: int = 0
+    clock_tolerance_seconds: float = 1.0  # from [time] clock_tolerance

@@ -204,6 +204,13 @@ def test_dut1_out_of_range():
     assert error.key == "time.dut1" and "(-0.9, 0.9)" in error.expected and '"iers"' in error.expected
 
 
+def test_clock_tolerance_is_read_and_checked():
+    assert _parse(SITE).time.clock_tolerance_seconds == 1.0
+    assert _parse(SITE + "[time]\nclock_tolerance = 0.05\n").time.clock_tolerance_seconds == 0.05
+    error = _one_error(SITE + "[time]\ndut1 = 0.1\nclock_tolerance = -2\n")
+    assert error.key == "time.clock_tolerance" and error.line == 9 and "seconds" in error.expected
+
+
 def test_iers_file_without_iers_is_refused():
     error = _one_error(SITE + '[time]\ndut1 = 0.1\niers_file = "f.all"\n')
     assert error.key == "time.iers_file"

@@ -309,7 +309,7 @@ def _local_sidereal_hours(snapshot) -> tuple[float, float] | None:
 def _clock_warning(snapshot) -> str | None:
     from siderod.clockhealth import format_clock_warning
 
-    return format_clock_warning(snapshot.clock_health)
+    return format_clock_warning(snapshot.clock_health, snapshot.clock_tolerance_seconds)
 
 
 def _zone(name: str):

@@ -306,6 +306,7 @@ class Service:
             config_error=self.config_error,
             missed_count=counts.get("missed", 0),
             planned_count=len(self._plan),
+            clock_tolerance_seconds=self.config.time.clock_tolerance_seconds,
         )
 
     async def mute(self, target: str, until_utc: datetime | None) -> None:
@@ -634,7 +635,7 @@ class Service:
                 from siderod.clockhealth import format_clock_warning, read_clock_health
 
                 health = read_clock_health()
-                warning = format_clock_warning(health)
+                warning = format_clock_warning(health, self.config.time.clock_tolerance_seconds)
                 if warning and warning != getattr(self, "_last_clock_warning", None):
                     log.warning("clock: %s", warning)
                 self._last_clock_warning = warning

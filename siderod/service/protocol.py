@@ -266,6 +266,7 @@ def snapshot_to_json(snapshot: ServiceSnapshot) -> dict[str, Any]:
         "config_error": snapshot.config_error,
         "missed_count": snapshot.missed_count,
         "planned_count": snapshot.planned_count,
+        "clock_tolerance_seconds": snapshot.clock_tolerance_seconds,
     }
 
 
@@ -308,6 +309,7 @@ def snapshot_from_json(data: Any) -> ServiceSnapshot:
         config_error=r.text("config_error", default=""),
         missed_count=r.integer("missed_count", default=0),
         planned_count=r.integer("planned_count", default=0),
+        clock_tolerance_seconds=r.number("clock_tolerance_seconds", default=1.0),
     )
 
 

@@ -22,6 +22,7 @@ from rich.console import Group
 from rich.text import Text
 
 from siderod.astro.constants import SIDEREAL_PER_SOLAR, UNIX_EPOCH_JD
+from siderod.clockhealth import format_clock_warning
 from siderod.model import (
     ClockHealth,
     Config,
@@ -438,10 +439,10 @@ def _warning_lines(inputs: BoardInputs, width: int) -> list[Text]:
                               "never point unfiltered optics at or near the Sun", "siderod.warn")))
     snapshot = inputs.snapshot
     health = snapshot.clock_health if snapshot is not None else inputs.clock_health
-    if health is not None and health.state == "unsynchronised":
-        bound = (f" (error up to {_format_small_seconds(health.max_error_seconds)})"
-                 if health.max_error_seconds is not None else "")
-        out.append(_warn(width, f"system clock not synchronised{bound}: LST and alert times may be off"))
+    tolerance_seconds = inputs.config.time.clock_tolerance_seconds
+    clock_warning = format_clock_warning(health, tolerance_seconds) if health is not None else None
+    if clock_warning:
+        out.append(_warn(width, clock_warning))
     if inputs.leap_known_good_until is not None and inputs.now_utc.date() > inputs.leap_known_good_until:
         out.append(_warn(width, f"leap-second table known good only to {inputs.leap_known_good_until}: "
                                 "UTC after that is a guess; update siderod"))

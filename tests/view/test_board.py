@@ -269,11 +269,22 @@ def test_every_warning_is_spelled_out():
     )
     text = record(render_board(inputs, 140, 40), width=140, height=40)
     assert "never point unfiltered optics at or near the Sun" in text and "M42 within 20°" in text
-    assert "system clock not synchronised" in text
+    assert "system clock is not synchronised (the kernel allows an error of up to 800.0 ms)" in text
     assert "leap-second table known good only to 2026-06-28" in text
     assert "desktop notifications failing: no notification server" in text
     assert "reload failed, last good configuration kept: targets.toml:4" in text
     assert "the service stopped answering" in text
+
+
+def test_a_synchronised_clock_worse_than_the_configured_tolerance_is_a_warning():
+    health = ClockHealth("synchronised", estimated_error_seconds=0.4, max_error_seconds=0.9)
+    lenient = small_inputs(snapshot=snapshot(clock_health=health))
+    assert "clock error" not in record(render_board(lenient, 140, 40), width=140, height=40)
+    config = lenient.config
+    strict_config = replace(config, time=replace(config.time, clock_tolerance_seconds=0.1))
+    strict = small_inputs(config=strict_config, snapshot=snapshot(clock_health=health))
+    text = record(render_board(strict, 140, 40), width=140, height=40)
+    assert "the kernel estimates the clock error at 400.0 ms, more than the 100.0 ms LST needs" in text
 
 
 def replace_sky(**changes):
