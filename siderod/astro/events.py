@@ -771,7 +771,11 @@ def _altaz(ha_hours, dec_deg, latitude_deg):
 
 
 def _wrap12(hours):
-    """Hours into [-12, 12) by floor (faster than np.mod)."""
+    """Hours into [-12, 12) by floor (faster than np.mod).
+
+    Unlike ``angles.wrap_hours_12`` it skips the fold-back of the rare value that rounds onto the
+    open end: in this hot path an hour angle of +12.0 instead of -12.0 changes no event time.
+    """
     h = np.asarray(hours)
     return h - 24.0 * np.floor((h + 12.0) * (1.0 / 24.0))
 

@@ -34,6 +34,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from siderod.astro.angles import wrap_hours_24
 from siderod.astro.constants import ARCSEC_RAD, DEG_RAD, HOUR_RAD, J2000_JD, JULIAN_CENTURY_DAYS
 from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
 from siderod.astro.precession import bias_precession_nutation_matrix, mean_obliquity_rad
@@ -554,7 +555,7 @@ def _positions_from_ha_frame(xh, yh, zh, last_rad, observer: Observer) -> Positi
     rxy = np.hypot(xh, yh)
     ha_hours = _wrap_hours_pm12(np.arctan2(yh, xh) * (1.0 / HOUR_RAD))
     dec_deg = np.arctan2(zh, rxy) * (1.0 / DEG_RAD)
-    ra_hours = _wrap_hours_24(np.asarray(last_rad)[...] * (1.0 / HOUR_RAD) - ha_hours)
+    ra_hours = wrap_hours_24(np.asarray(last_rad)[...] * (1.0 / HOUR_RAD) - ha_hours)
     north = cp * zh - sp * xh
     up = cp * xh + sp * zh
     az_deg = _wrap_deg_0_360(np.arctan2(-yh, north) * (1.0 / DEG_RAD))
@@ -579,11 +580,6 @@ def _geocentric_site(observer: Observer):
     s = b_a * b_a * c
     h = observer.elevation_m / 1000.0 / _EARTH_RADIUS_KM
     return (c + h) * math.cos(phi), (s + h) * math.sin(phi)
-
-
-def _wrap_hours_24(hours):
-    out = hours - 24.0 * np.floor(hours * (1.0 / 24.0))
-    return np.where(out >= 24.0, out - 24.0, out)
 
 
 def _wrap_hours_pm12(hours):
