@@ -3,8 +3,11 @@ GeocentricMeanEcliptic), used here as the reference library."""
 
 import warnings
 
+import astropy.coordinates as astropy_coordinates  # noqa: E402 -- reference, from the test extra
+import astropy.units as u  # noqa: E402
 import numpy as np
 import pytest
+from astropy.time import Time  # noqa: E402
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -16,10 +19,6 @@ from siderod.astro.frames import (
     icrs_to_ecliptic_of_date_deg,
     icrs_to_galactic_deg,
 )
-
-astropy_coordinates = pytest.importorskip("astropy.coordinates")
-import astropy.units as u  # noqa: E402
-from astropy.time import Time  # noqa: E402
 
 ARCSEC_DEG = 1.0 / 3600.0
 #: Brief: galactic and ecliptic conversions within 0.1" of astropy.

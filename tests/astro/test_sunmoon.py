@@ -4,8 +4,12 @@ Meeus' worked examples [from memory]."""
 import math
 import warnings
 
+import astropy.units as u  # noqa: E402
 import numpy as np
 import pytest
+from astropy.coordinates import TETE, AltAz, EarthLocation, get_body, get_sun  # noqa: E402
+from astropy.time import Time  # noqa: E402
+from astropy.utils import iers  # noqa: E402
 
 from siderod.astro.places import Observer
 from siderod.astro.sunmoon import (
@@ -17,12 +21,6 @@ from siderod.astro.sunmoon import (
     sun_separation_deg,
 )
 from siderod.astro.timescales import instants_from_jd, instants_from_unix
-
-pytest.importorskip("astropy.coordinates")
-import astropy.units as u  # noqa: E402
-from astropy.coordinates import TETE, AltAz, EarthLocation, get_body, get_sun  # noqa: E402
-from astropy.time import Time  # noqa: E402
-from astropy.utils import iers  # noqa: E402
 
 #: Brief: the Sun within 0.01 deg, 1900-2100 (Meeus' stated accuracy for the low-precision theory).
 SUN_TOL_DEG = 0.01

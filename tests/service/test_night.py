@@ -77,7 +77,6 @@ async def test_whole_night_every_alert_once_in_order_on_time(tmp_path):
 @pytest.mark.slow
 async def test_demo_night_through_the_real_agenda(tmp_path, demo_config):
     """The demo night (Corrie Hill, 2026-12-14/15) with siderod.agenda: same checks as above."""
-    pytest.importorskip("siderod.agenda")
     from dataclasses import replace
 
     from siderod.agenda import compute_agenda

@@ -17,9 +17,8 @@ import uuid
 from datetime import UTC, datetime
 from pathlib import Path
 
+import erfa  # noqa: E402 -- reference: pyerfa, from the test extra
 import pytest
-
-erfa = pytest.importorskip("erfa")
 
 pytestmark = [
     pytest.mark.slow,
