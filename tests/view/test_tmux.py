@@ -17,7 +17,7 @@ import uuid
 from datetime import UTC, datetime
 from pathlib import Path
 
-import erfa  # noqa: E402 -- reference: pyerfa, from the test extra
+import erfa  # reference: pyerfa, from the test extra
 import pytest
 
 pytestmark = [
