@@ -74,9 +74,12 @@ class Ledger:
         self._db.execute("PRAGMA synchronous=NORMAL")
         self._db.execute("PRAGMA busy_timeout=5000")
         self._db.executescript(_SCHEMA)
-        self._db.execute(
+        # A ledger that has never held a schema row is brand new: no earlier run could have left
+        # alerts owing, so the service does not "catch up" on anything due before it started.
+        cursor = self._db.execute(
             "INSERT OR IGNORE INTO meta(name, value) VALUES ('schema_version', ?)", (_SCHEMA_VERSION,)
         )
+        self.is_new = cursor.rowcount == 1
 
     # -- lifecycle -------------------------------------------------------------------------
     def close(self) -> None:

@@ -166,6 +166,7 @@ class Service:
         self._file_stamps: dict[str, tuple[int, int] | None] = {}
         self._sun_altitude: Callable[[datetime], float] | None = None
         self._service_message_count = 0
+        self._catch_up_floor_utc: datetime | None = None
 
     # -- public API ----------------------------------------------------------------------------
     async def run(self, *, install_signal_handlers: bool = False) -> None:
@@ -192,6 +193,9 @@ class Service:
                 )
             self._ledger = Ledger(self._ledger_path)
             stack.callback(self._ledger.close)
+            # Catching up on alerts that fell due while the service was down only makes sense if
+            # it ran before; a first start begins with what is due from now on.
+            self._catch_up_floor_utc = self.started_utc if self._ledger.is_new else None
             self._ledger.prune(self._clock.now_utc() - timedelta(days=LEDGER_KEEP_DAYS))
             self._mutes = self._ledger.mutes(self._clock.now_utc())
             self._scheduler = self._make_scheduler()
@@ -395,6 +399,8 @@ class Service:
             planned = plan_alerts(
                 agenda, config, muted=self._mutes, now_utc=now_utc, sun_altitude_deg=self._sun_altitude
             )
+            if self._catch_up_floor_utc is not None:
+                planned = tuple(a for a in planned if a.due_utc >= self._catch_up_floor_utc)
             now_utc = self._clock.now_utc()  # the agenda may have taken a while
             open_keys = self._ledger.replace_planned(planned, now_utc)
             self._plan = {a.key: a for a in planned if a.key in open_keys}

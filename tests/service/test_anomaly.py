@@ -149,3 +149,27 @@ async def test_long_suspend_records_missed_and_summarises_in_one_notification(tm
         assert {r.key for r in ledger.rows("missed")} == {a.key for a in missed}
     on_time = {r.message.key: r.when_utc for r in recorder.received}
     assert all(abs((on_time[a.key] - a.due_utc).total_seconds()) <= ON_TIME_SECONDS for a in after)
+
+
+# -- catching up after downtime, and not before a first start -----------------------------------
+@pytest.mark.slow
+async def test_a_first_start_does_not_catch_up_but_a_restart_does(tmp_path):
+    """Alerts due shortly before a start are owed only if the service ran before (its ledger exists)."""
+    _, _, _, expected, _ = _setup(tmp_path / "probe")
+    flip = _first(expected, EventKind.FLIP_DUE, lead=0.0)
+    start_utc = flip.due_utc + timedelta(minutes=3)  # within the 10 min grace
+
+    clock, service, recorder, _, _ = _setup(tmp_path / "fresh", start_utc=start_utc)
+    task = await fakes.run_service_until(service, clock, start_utc + timedelta(seconds=5))
+    await fakes.stop_service(service, task)
+    assert flip.key not in {r.message.key for r in recorder.received}  # brand-new ledger: not owed
+
+    earlier_utc = flip.due_utc - timedelta(hours=1)
+    clock, service, recorder, _, _ = _setup(tmp_path / "restart", start_utc=earlier_utc)
+    task = await fakes.run_service_until(service, clock, earlier_utc + timedelta(minutes=1))
+    await fakes.stop_service(service, task)  # it ran, then stopped before the flip was due
+    clock, service, recorder, _, _ = _setup(tmp_path / "restart", start_utc=start_utc)
+    task = await fakes.run_service_until(service, clock, start_utc + timedelta(seconds=5))
+    await fakes.stop_service(service, task)
+    got = [r for r in recorder.received if r.message.key == flip.key]
+    assert len(got) == 1 and got[0].message.title.startswith("[late 3 min]")
