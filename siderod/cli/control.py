@@ -11,6 +11,8 @@ import sys
 from datetime import datetime
 from typing import Any
 
+from siderod.cli.main import EXIT_BAD_INPUT, EXIT_FAILURE, EXIT_OK
+
 __all__ = [
     "register",
     "run",
@@ -18,16 +20,11 @@ __all__ = [
     "format_duration",
     "format_status",
     "status_to_json",
-    "EXIT_OK",
-    "EXIT_REFUSED",
-    "EXIT_NOT_RUNNING",
-    "EXIT_FAILURE",
 ]
 
-EXIT_OK = 0
-EXIT_REFUSED = 1  # the service answered with an error (unknown target, invalid configuration...)
-EXIT_NOT_RUNNING = 3
-EXIT_FAILURE = 4
+# The service answered with an error (unknown target, invalid configuration...): a problem the
+# user can fix, so the same code as bad input.
+EXIT_REFUSED = EXIT_BAD_INPUT
 
 # How long each verb waits for the service. test-alert waits for every channel to finish (each
 # bounded by its own timeout); reload parses and validates the whole configuration.
@@ -73,7 +70,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Send the verb's request, print the answer, and return the exit code."""
-    from siderod.errors import ControlError, ServiceNotRunning
+    from siderod.errors import ControlError
     from siderod.service.control import request_once
     from siderod.service.protocol import BadReply
 
@@ -88,9 +85,6 @@ def run(args: argparse.Namespace) -> int:
         if verb != "status":
             return _report_result(verb, args, result)
         _print_status(result, as_json=getattr(args, "json", False))
-    except ServiceNotRunning as e:
-        print(f"siderod: {e}", file=sys.stderr)
-        return EXIT_NOT_RUNNING
     except ControlError as e:
         print(f"siderod: the service refused {verb}: {e}", file=sys.stderr)
         return EXIT_REFUSED

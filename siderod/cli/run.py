@@ -8,10 +8,9 @@ from __future__ import annotations
 
 import argparse
 
-__all__ = ["register", "run"]
+from siderod.cli.main import EXIT_FAILURE, EXIT_OK
 
-EXIT_OK = 0
-EXIT_FAILURE = 4
+__all__ = ["register", "run"]
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:

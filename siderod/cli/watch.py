@@ -6,9 +6,9 @@ import argparse
 import sys
 from typing import Any
 
-__all__ = ["register", "run"]
+from siderod.cli.main import EXIT_BAD_INPUT, EXIT_OK, EXIT_USAGE
 
-_EXIT_OK, _EXIT_BAD_INPUT, _EXIT_USAGE = 0, 1, 2
+__all__ = ["register", "run"]
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
@@ -38,10 +38,10 @@ def run(args: argparse.Namespace) -> int:
     if args.at and not args.once:
         print("siderod watch: --at needs --once (the live board always shows the present); "
               "try: siderod watch --once --at 2026-12-14T22:30:00Z", file=sys.stderr)
-        return _EXIT_USAGE
+        return EXIT_USAGE
     if args.hz is not None and not 0.0 < args.hz <= 10.0:
         print(f"siderod watch: --hz must be more than 0 and at most 10, got {args.hz:g}", file=sys.stderr)
-        return _EXIT_USAGE
+        return EXIT_USAGE
 
     from siderod.view.theme import make_console
 
@@ -68,7 +68,7 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
             now_utc = parse_iso_datetime(args.at).astimezone(UTC)
         except ValueError as exc:
             print(f"siderod watch: --at: {exc}", file=sys.stderr)
-            return _EXIT_BAD_INPUT
+            return EXIT_BAD_INPUT
         source = "computed here for --at"
     else:
         now_utc = datetime.now(UTC)  # the CLI edge reads the wall clock once, here
@@ -88,7 +88,7 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
     # On a terminal, leave a line for the prompt; into a file or pipe, every target is printed.
     height = console.size.height - 1 if console.is_terminal else None
     console.print(render_board(inputs, width, height), crop=True)
-    return _EXIT_OK
+    return EXIT_OK
 
 
 def _run_live(args: argparse.Namespace, console: Any) -> int:
@@ -131,7 +131,7 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
         asyncio.run(main())
     except KeyboardInterrupt:
         pass  # Ctrl-C is how one leaves; the view has already restored the terminal
-    return _EXIT_OK
+    return EXIT_OK
 
 
 def _ask_service(env: Any) -> tuple[Any, str]:

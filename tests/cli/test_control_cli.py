@@ -119,8 +119,10 @@ def parse(*words: str) -> argparse.Namespace:
 
 
 async def run_cli(*words: str) -> int:
-    args = parse(*words)
-    return await asyncio.to_thread(args.func, args)
+    """The whole command line, as `siderod ...` runs it: exit codes come from the dispatcher too."""
+    from siderod.cli.main import main
+
+    return await asyncio.to_thread(main, list(words))
 
 
 async def test_status_text(socket_path, capsys):
@@ -224,8 +226,9 @@ async def test_no_service_exits_3_with_a_hint(tmp_path, capsys, words):
 
 def test_default_socket_comes_from_xdg_runtime_dir(tmp_path, monkeypatch, capsys):
     monkeypatch.setenv("XDG_RUNTIME_DIR", os.fspath(tmp_path))
-    args = parse("status")
-    assert args.func(args) == 3
+    from siderod.cli.main import main
+
+    assert main(["status"]) == 3
     assert os.fspath(tmp_path / "siderod" / "control.sock") in capsys.readouterr().err
 
 

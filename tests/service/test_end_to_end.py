@@ -238,7 +238,7 @@ def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanl
         if socket_path.exists():
             with socket.socket(socket.AF_UNIX, socket.SOCK_STREAM) as probe, pytest.raises(OSError):
                 probe.connect(str(socket_path))
-        assert siderod(env, "status").returncode == 3  # EXIT_NOT_RUNNING
+        assert siderod(env, "status").returncode == 3  # EXIT_NO_SERVICE
         assert "Traceback" not in log_file.read_text()
     finally:
         if process.poll() is None:
