@@ -4,9 +4,11 @@ from __future__ import annotations
 
 import json
 import math
+from dataclasses import replace
 from datetime import UTC, datetime, timedelta
 
 import pytest
+from helpers import service_fakes as fakes
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -18,7 +20,6 @@ from siderod.model import (
     EventKind,
     PlannedAlert,
     ServiceSnapshot,
-    Site,
     Urgency,
 )
 from siderod.service.protocol import (
@@ -39,15 +40,9 @@ from siderod.service.protocol import (
     snapshot_to_json,
 )
 
-# Demo scenario (invented): Corrie Hill Observatory, evening of 14 December 2026.
-CORRIE_HILL = Site(
-    name="Corrie Hill Observatory",
-    latitude_deg=56 + 12 / 60 + 30 / 3600,
-    longitude_deg=-(3 + 41 / 60 + 15 / 3600),
-    elevation_m=212.0,
-    timezone="Europe/London",
-    horizon=((0.0, 5.0), (180.0, 12.5)),
-)
+# Demo scenario (invented): Corrie Hill Observatory, evening of 14 December 2026, with a horizon
+# profile so that the round trip covers it too.
+CORRIE_HILL = replace(fakes.CORRIE_HILL, horizon=((0.0, 5.0), (180.0, 12.5)))
 TAKEN_UTC = datetime(2026, 12, 14, 21, 3, 7, tzinfo=UTC)
 
 
