@@ -7,13 +7,19 @@ a suspend (wall time moves while monotonic time stands still, as CLOCK_MONOTONIC
 
 from __future__ import annotations
 
-import asyncio
 import heapq
 import itertools
 import random
 import time
 from datetime import UTC, datetime, timedelta
-from typing import Protocol
+from typing import TYPE_CHECKING, Protocol
+
+if TYPE_CHECKING:
+    import asyncio
+
+# asyncio is imported inside the methods that need a running loop, not at the top: the one-shot
+# verbs (`siderod now`, `agenda`, `watch --once`) read the wall clock through SystemClock too,
+# and asyncio would add about 90 ms to their start.
 
 __all__ = ["Clock", "SystemClock", "FakeClock"]
 
@@ -48,6 +54,8 @@ class SystemClock:
         return time.monotonic() + self._offset_mono
 
     async def sleep(self, seconds: float) -> None:
+        import asyncio
+
         await asyncio.sleep(max(0.0, seconds))
 
 
@@ -81,6 +89,8 @@ class FakeClock:
         return self._mono
 
     async def sleep(self, seconds: float) -> None:
+        import asyncio
+
         if seconds <= 0:
             await asyncio.sleep(0)
             return
@@ -129,6 +139,8 @@ class FakeClock:
     # -- autojump ----------------------------------------------------------------------------
     def start_autojump(self) -> asyncio.Task[None]:
         """Start the task that jumps to the next sleeper whenever everyone is asleep."""
+        import asyncio
+
         self.autojump = True
         if self._driver is None or self._driver.done():
             self._driver = asyncio.get_running_loop().create_task(self._drive())
@@ -141,6 +153,8 @@ class FakeClock:
             self._driver = None
 
     async def _drive(self) -> None:
+        import asyncio
+
         while self.autojump:
             await _settle()
             deadline = self._next_deadline()
@@ -169,6 +183,8 @@ class FakeClock:
 
 
 async def _settle(rounds: int = 30) -> None:
+    import asyncio
+
     # Yield to the event loop enough times for chains of ready callbacks to finish. asyncio
     # offers no public "everyone is blocked" signal, so this is a bounded approximation.
     for _ in range(rounds):

@@ -41,7 +41,6 @@ def run(args: argparse.Namespace) -> int:
     """Compute and print; 0 on success, 1 for bad input (time, kind, target, configuration)."""
     import json
     import os
-    import time
 
     from siderod.astro.timescales import parse_iso_datetime
     from siderod.config import load_config
@@ -54,9 +53,9 @@ def run(args: argparse.Namespace) -> int:
             print(f"siderod agenda: --from: {exc}", file=sys.stderr)
             return 1
     else:
-        from datetime import UTC, datetime
+        from siderod.clock import SystemClock
 
-        start_utc = datetime.fromtimestamp(time.time(), UTC)  # the CLI edge reads the clock once
+        start_utc = SystemClock().now_utc()  # the one read of the wall clock
     if args.hours is not None and not args.hours > 0:
         print(f"siderod agenda: --hours: expected a positive number of hours, got {args.hours:g}",
               file=sys.stderr)

@@ -37,7 +37,6 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     """Compute and print; 0 on success, 1 for a bad --at or configuration."""
     import os
-    import time
 
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
     from siderod.astro.timescales import parse_iso_datetime, unix_from_datetime
@@ -51,9 +50,9 @@ def run(args: argparse.Namespace) -> int:
             print(f"siderod now: --at: {exc}", file=sys.stderr)
             return 1
     else:
-        # The CLI edge reads the wall clock once, here. (siderod.clock.SystemClock would pull in
-        # asyncio, which `now` must not pay for at start-up.)
-        unix_seconds = time.time()
+        from siderod.clock import SystemClock
+
+        unix_seconds = SystemClock().now_utc().timestamp()  # the one read of the wall clock
 
     config = load_config(getattr(args, "config", None), os.environ, at_unix=unix_seconds)
     if config.is_demo:

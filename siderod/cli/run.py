@@ -59,7 +59,8 @@ def run(args: argparse.Namespace) -> int:
     clock = SystemClock()
     explicit = getattr(args, "config", None)
     service = Service(
-        lambda: load_config(explicit, dict(os.environ)),
+        # DUT1 from IERS tables is taken for the moment of loading, on the service's clock.
+        lambda: load_config(explicit, dict(os.environ), at_unix=clock.now_utc().timestamp()),
         clock,
         None,
         None,

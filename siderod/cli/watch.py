@@ -56,10 +56,11 @@ def run(args: argparse.Namespace) -> int:
 
 def _print_once(args: argparse.Namespace, console: Any) -> int:
     import os
-    from datetime import UTC, datetime
+    from datetime import UTC
 
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
     from siderod.astro.timescales import parse_iso_datetime
+    from siderod.clock import SystemClock
     from siderod.view.board import inputs_from_config, render_board
 
     snapshot = None
@@ -71,7 +72,7 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
             return EXIT_BAD_INPUT
         source = "computed here for --at"
     else:
-        now_utc = datetime.now(UTC)  # the CLI edge reads the wall clock once, here
+        now_utc = SystemClock().now_utc()  # the one read of the wall clock
         snapshot, source = _ask_service(os.environ)
     config = _load_config(args, snapshot, now_utc)
     from siderod.clockhealth import read_clock_health
@@ -94,7 +95,6 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
 def _run_live(args: argparse.Namespace, console: Any) -> int:
     import asyncio
     import os
-    from datetime import UTC, datetime
 
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
     from siderod.clock import SystemClock
@@ -104,8 +104,9 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
     from siderod.service.protocol import snapshot_from_json
     from siderod.view.live import BoardFeed, run_live
 
+    clock = SystemClock()
     snapshot, source = _ask_service(os.environ)
-    config = _load_config(args, snapshot, datetime.now(UTC))
+    config = _load_config(args, snapshot, clock.now_utc())
     socket_path = resolve_paths(os.environ).socket_path
 
     async def get_snapshot() -> Any:
@@ -123,7 +124,7 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
 
     async def main() -> None:
         try:
-            await run_live(SystemClock(), feed.inputs_at, console, min(hz, 10.0))
+            await run_live(clock, feed.inputs_at, console, min(hz, 10.0))
         finally:
             await feed.close()
 
