@@ -29,7 +29,7 @@ def _clean_environment(monkeypatch, tmp_path_factory):
 
 @pytest.fixture
 def fake_clock():
-    from siderod.clock import FakeClock
+    from siderod.common.clock import FakeClock
 
     return FakeClock(DEMO_NIGHT_UTC)
 
@@ -41,7 +41,7 @@ def demo_config_path() -> Path:
 
 @pytest.fixture
 def demo_config():
-    from siderod.config import load_config
+    from siderod.files.config import load_config
 
     return load_config(str(DEMO_CONFIG), env=dict(os.environ))
 

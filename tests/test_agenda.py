@@ -4,8 +4,7 @@ from datetime import UTC, datetime, timedelta
 
 import pytest
 
-from siderod.agenda import compute_agenda, event_to_json
-from siderod.model import (
+from siderod.common.model import (
     Config,
     EventKind,
     EventSettings,
@@ -15,6 +14,7 @@ from siderod.model import (
     Site,
     Target,
 )
+from siderod.plan.agenda import compute_agenda, event_to_json
 
 #: The demo site (invented; RULES.md): Corrie Hill Observatory.
 SITE = Site("Corrie Hill Observatory", 56.0 + 12 / 60 + 30 / 3600, -(3.0 + 41 / 60 + 15 / 3600), 212.0,

@@ -15,7 +15,8 @@ from pathlib import Path
 
 import pytest
 
-from siderod.clockhealth import (
+from siderod.common.model import ClockHealth
+from siderod.service.clockhealth import (
     LST_CLOCK_TOLERANCE_SECONDS,
     STA_UNSYNC,
     TIME_ERROR,
@@ -23,7 +24,6 @@ from siderod.clockhealth import (
     format_clock_warning,
     read_clock_health,
 )
-from siderod.model import ClockHealth
 
 TIME_OK = 0  # adjtimex return value, from include/uapi/linux/timex.h
 STA_PLL = 0x0001  # status bit, same header
@@ -111,7 +111,7 @@ int main(void) {
     not sys.platform.startswith("linux") or shutil.which("cc") is None, reason="needs Linux and cc"
 )
 def test_live_read_matches_a_c_program(tmp_path):
-    from siderod.clockhealth import _Timex
+    from siderod.service.clockhealth import _Timex
 
     source = tmp_path / "probe.c"
     source.write_text(_C_PROBE)

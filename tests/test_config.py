@@ -1,4 +1,4 @@
-"""siderod.config: finding, reading and checking configuration files; one test per kind of message."""
+"""siderod.files.config: finding, reading and checking configuration files; one test per kind of message."""
 
 from __future__ import annotations
 
@@ -8,7 +8,9 @@ from pathlib import Path
 
 import pytest
 
-from siderod.config import (
+from siderod.common.errors import ConfigErrors
+from siderod.common.model import EventKind, MountKind, Urgency
+from siderod.files.config import (
     FOUND_BUNDLED_DEMO,
     FOUND_ENV,
     FOUND_OPTION,
@@ -19,8 +21,6 @@ from siderod.config import (
     load_config,
     parse_config,
 )
-from siderod.errors import ConfigErrors
-from siderod.model import EventKind, MountKind, Urgency
 
 REPO = Path(__file__).resolve().parent.parent
 
@@ -383,7 +383,7 @@ def test_dut1_from_an_iers_file_is_interpolated(tmp_path):
 
 
 def test_dut1_iers_without_tables_falls_back_to_zero(monkeypatch):
-    import siderod.config as config_module
+    import siderod.files.config as config_module
 
     monkeypatch.setattr(config_module, "find_iers_finals", lambda: None)
     config = _parse(SITE + '[time]\ndut1 = "iers"\n')

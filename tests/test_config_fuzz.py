@@ -20,9 +20,9 @@ from helpers import service_fakes as fakes
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from siderod.config import parse_config
-from siderod.errors import ConfigErrors
-from siderod.targets import parse_targets_csv, parse_targets_toml
+from siderod.common.errors import ConfigErrors
+from siderod.files.config import parse_config
+from siderod.files.targets import parse_targets_csv, parse_targets_toml
 
 DEMO_DIR = Path(__file__).resolve().parent.parent / "siderod" / "demo"
 CONFIG_PATH = "/fuzz/config.toml"
@@ -247,8 +247,8 @@ def _invalid(text: str, files: dict[str, str]) -> bool:
 @given(bad_texts=st.lists(st.one_of(config_documents(), mutated_demo(), st.text(max_size=200)),
                           min_size=3, max_size=3))
 async def test_fuzzed_invalid_reloads_leave_the_service_on_its_original_config(bad_texts, tmp_path_factory):
-    from siderod.clock import FakeClock
-    from siderod.model import ClockHealth, Event, EventKind
+    from siderod.common.clock import FakeClock
+    from siderod.common.model import ClockHealth, Event, EventKind
     from siderod.service.daemon import Service
     from siderod.service.scheduling import ClockScheduler
 

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 from datetime import UTC, datetime, timedelta
 
-from siderod.ledger import EVENT_MATCH_SECONDS, Ledger
-from siderod.model import Delivery, Event, EventKind, PlannedAlert, Urgency
-from siderod.planner import alert_key
+from siderod.common.model import Delivery, Event, EventKind, PlannedAlert, Urgency
+from siderod.plan.planner import alert_key
+from siderod.service.ledger import EVENT_MATCH_SECONDS, Ledger
 
 NOW = datetime(2026, 12, 14, 20, 0, tzinfo=UTC)
 

@@ -7,7 +7,7 @@ from datetime import UTC, datetime, timedelta
 
 import pytest
 
-from siderod.model import (
+from siderod.common.model import (
     AlertRules,
     Config,
     Event,
@@ -17,7 +17,7 @@ from siderod.model import (
     Target,
     Urgency,
 )
-from siderod.planner import alert_key, format_alert, format_missed_summary, parse_alert_key, plan_alerts
+from siderod.plan.planner import alert_key, format_alert, format_missed_summary, parse_alert_key, plan_alerts
 
 SITE = Site("Corrie Hill Observatory", 56.208333, -3.6875, 212.0, "Europe/London")
 NOW = datetime(2026, 12, 14, 18, 0, tzinfo=UTC)

@@ -1,4 +1,4 @@
-"""siderod.positions: one vectorised sky state, checked against pyerfa (ERFA, test-only reference)."""
+"""siderod.plan.positions: one vectorised sky state, checked against pyerfa (ERFA, test-only reference)."""
 
 from __future__ import annotations
 
@@ -9,8 +9,8 @@ import erfa
 import numpy as np
 import pytest
 
-from siderod.model import Frame, Site, Target, TimeSettings
-from siderod.positions import compute_sky, horizon_altitude_deg, target_stars, twilight_name
+from siderod.common.model import Frame, Site, Target, TimeSettings
+from siderod.plan.positions import compute_sky, horizon_altitude_deg, target_stars, twilight_name
 
 #: LMST vs ERFA gmst06: the issue's 1 microsecond of time, in hours.
 LMST_TOL_HOURS = 1e-6 / 3600.0

@@ -1,4 +1,4 @@
-"""siderod.targets: target files in every frame, CSV catalogues, and their error messages.
+"""siderod.files.targets: target files in every frame, CSV catalogues, and their error messages.
 
 Frame conversions are checked against astropy (test-only reference library).
 """
@@ -7,9 +7,9 @@ from __future__ import annotations
 
 import pytest
 
-from siderod.errors import ConfigErrors
-from siderod.model import EventKind, Frame
-from siderod.targets import parse_targets_csv, parse_targets_toml
+from siderod.common.errors import ConfigErrors
+from siderod.common.model import EventKind, Frame
+from siderod.files.targets import parse_targets_csv, parse_targets_toml
 
 #: Galactic/ecliptic -> ICRS vs astropy: the issue's 0.1 arcsec requirement, in degrees.
 FRAME_TOL_DEG = 0.1 / 3600.0

@@ -1,4 +1,4 @@
-"""siderod.tomlpos: locating key paths in TOML text, checked against tomllib's own reading."""
+"""siderod.files.tomlpos: locating key paths in TOML text, checked against tomllib's own reading."""
 
 from __future__ import annotations
 
@@ -6,7 +6,7 @@ import tomllib
 
 import pytest
 
-from siderod.tomlpos import Problems, key_lines, locate_key
+from siderod.files.tomlpos import Problems, key_lines, locate_key
 
 DOC = '''\
 # a comment = not a key

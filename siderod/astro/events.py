@@ -1,7 +1,7 @@
 """Event finders for a site and a time window: transits, hour-angle marks, altitude crossings
 (flat or against a horizon profile), and the Sun's and Moon's standard-altitude crossings.
 
-Arrays in, arrays out; no records (``siderod/agenda.py`` turns these arrays into ``Event`` records).
+Arrays in, arrays out; no records (``siderod/plan/agenda.py`` turns these arrays into ``Event`` records).
 Times are POSIX seconds (UTC); hour angles are hours, positive west; altitudes are **geometric**
 (airless) degrees unless a name says ``observed`` -- the conversion of an observed threshold into a
 geometric one is :class:`AltitudeLimit`'s job, so refraction is applied exactly once (either the

@@ -43,8 +43,8 @@ def run(args: argparse.Namespace) -> int:
     import os
 
     from siderod.astro.timescales import parse_iso_datetime
-    from siderod.config import load_config
-    from siderod.model import EventKind
+    from siderod.common.model import EventKind
+    from siderod.files.config import load_config
 
     if args.start:
         try:
@@ -53,7 +53,7 @@ def run(args: argparse.Namespace) -> int:
             print(f"siderod agenda: --from: {exc}", file=sys.stderr)
             return 1
     else:
-        from siderod.clock import SystemClock
+        from siderod.common.clock import SystemClock
 
         start_utc = SystemClock().now_utc()  # the one read of the wall clock
     if args.hours is not None and not args.hours > 0:
@@ -97,7 +97,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _compute(config, start_utc, args, kinds):
-    from siderod.agenda import compute_agenda
+    from siderod.plan.agenda import compute_agenda
 
     count = len(config.targets) if not args.target else len(args.target)
     if count < PROGRESS_MIN_TARGETS or not sys.stderr.isatty():
@@ -115,7 +115,7 @@ def _compute(config, start_utc, args, kinds):
 
 
 def _agenda_json(agenda, config) -> dict[str, Any]:
-    from siderod.agenda import event_to_json
+    from siderod.plan.agenda import event_to_json
 
     def iso(dt):
         return dt.strftime("%Y-%m-%dT%H:%M:%SZ")
@@ -135,7 +135,7 @@ def _agenda_json(agenda, config) -> dict[str, Any]:
 
 def _describe(event) -> str:
     """A short note for the table and the calendar: the kind-specific value."""
-    from siderod.model import EventKind
+    from siderod.common.model import EventKind
 
     kind = event.kind
     if kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION):
@@ -154,7 +154,7 @@ def _describe(event) -> str:
 
 def _table_note(event) -> str:
     """The note column: what the other columns do not already say."""
-    from siderod.model import EventKind
+    from siderod.common.model import EventKind
 
     if event.kind is EventKind.HOUR_ANGLE:
         return ""  # the HA column is the mark

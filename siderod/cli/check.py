@@ -27,8 +27,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """0 when the configuration is valid, 1 when it is not (every error printed)."""
-    from siderod.config import find_config, load_config
-    from siderod.errors import ConfigErrors
+    from siderod.common.errors import ConfigErrors
+    from siderod.files.config import find_config, load_config
 
     env = os.environ
     explicit = getattr(args, "config", None)
@@ -54,7 +54,7 @@ def run(args: argparse.Namespace) -> int:
 def format_summary(config: Any, how_found: str) -> str:
     """A few lines describing a valid configuration: site, targets per frame, alerts, cautions."""
     from siderod.astro.angles import format_dms
-    from siderod.model import EventKind, MountKind, Urgency
+    from siderod.common.model import EventKind, MountKind, Urgency
 
     site = config.site
     lines = [f"configuration: {config.path} ({how_found})" + ("  [demo]" if config.is_demo else "")]
@@ -121,8 +121,8 @@ def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]
 
     from siderod import __version__
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
-    from siderod.config import find_iers_finals
-    from siderod.paths import resolve_paths
+    from siderod.files.config import find_iers_finals
+    from siderod.files.paths import resolve_paths
 
     lines = ["doctor:"]
     versions = [f"siderod {__version__}", f"python {platform.python_version()}"]
@@ -162,7 +162,7 @@ def _service_state(socket_path: Any) -> str:
         from siderod.service.control import request_once
     except ImportError:
         return "unknown (this build has no control client)"
-    from siderod.errors import SiderodError
+    from siderod.common.errors import SiderodError
 
     try:
         result = request_once(socket_path, {"op": "status"}, timeout_seconds=1.0)

@@ -70,7 +70,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Send the verb's request, print the answer, and return the exit code."""
-    from siderod.errors import ControlError
+    from siderod.common.errors import ControlError
     from siderod.service.control import request_once
     from siderod.service.protocol import BadReply
 
@@ -212,7 +212,7 @@ def _duration_arg(text: str) -> float:
 def _socket_path(args: argparse.Namespace) -> str:
     if getattr(args, "socket", None):
         return args.socket
-    from siderod.paths import resolve_paths
+    from siderod.files.paths import resolve_paths
 
     return os.fspath(resolve_paths(os.environ).socket_path)
 
@@ -301,7 +301,7 @@ def _local_sidereal_hours(snapshot) -> tuple[float, float] | None:
 
 
 def _clock_warning(snapshot) -> str | None:
-    from siderod.clockhealth import format_clock_warning
+    from siderod.service.clockhealth import format_clock_warning
 
     return format_clock_warning(snapshot.clock_health, snapshot.clock_tolerance_seconds)
 

@@ -13,7 +13,7 @@ import sys
 from collections.abc import Sequence
 
 from siderod import __version__
-from siderod.errors import ConfigErrors, ServiceNotRunning, SiderodError
+from siderod.common.errors import ConfigErrors, ServiceNotRunning, SiderodError
 
 __all__ = [
     "main",

@@ -40,8 +40,8 @@ def run(args: argparse.Namespace) -> int:
 
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
     from siderod.astro.timescales import parse_iso_datetime, unix_from_datetime
-    from siderod.config import load_config
-    from siderod.positions import compute_sky
+    from siderod.files.config import load_config
+    from siderod.plan.positions import compute_sky
 
     if args.at:
         try:
@@ -50,7 +50,7 @@ def run(args: argparse.Namespace) -> int:
             print(f"siderod now: --at: {exc}", file=sys.stderr)
             return 1
     else:
-        from siderod.clock import SystemClock
+        from siderod.common.clock import SystemClock
 
         unix_seconds = SystemClock().now_utc().timestamp()  # the one read of the wall clock
 
@@ -80,7 +80,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def sky_to_json(sky: Any, config: Any, *, leap_until: str) -> dict[str, Any]:
-    """The ``--json`` object for one :class:`~siderod.positions.SkyState` (fields in the README)."""
+    """The ``--json`` object for one :class:`~siderod.plan.positions.SkyState` (fields in the README)."""
     from siderod.astro.timescales import format_iso_utc
 
     site = config.site

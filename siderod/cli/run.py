@@ -41,9 +41,9 @@ def run(args: argparse.Namespace) -> int:
     import os
     import sys
 
-    from siderod.clock import SystemClock
-    from siderod.config import load_config
-    from siderod.paths import resolve_paths
+    from siderod.common.clock import SystemClock
+    from siderod.files.config import load_config
+    from siderod.files.paths import resolve_paths
     from siderod.service.anomaly import linux_boot_seconds
     from siderod.service.control import ServiceAlreadyRunning
     from siderod.service.daemon import Service
@@ -100,7 +100,7 @@ def run(args: argparse.Namespace) -> int:
         print(f"siderod: {exc}", file=sys.stderr)
         return EXIT_FAILURE
     except (Exception, BaseExceptionGroup) as exc:  # noqa: B036 -- a TaskGroup raises a group
-        from siderod.errors import ConfigErrors
+        from siderod.common.errors import ConfigErrors
 
         if isinstance(exc, ConfigErrors):
             raise  # invalid at start-up: main prints it and exits 1

@@ -60,7 +60,7 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
 
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
     from siderod.astro.timescales import parse_iso_datetime
-    from siderod.clock import SystemClock
+    from siderod.common.clock import SystemClock
     from siderod.view.board import inputs_from_config, render_board
 
     snapshot = None
@@ -75,7 +75,7 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
         now_utc = SystemClock().now_utc()  # the one read of the wall clock
         snapshot, source = _ask_service(os.environ)
     config = _load_config(args, snapshot, now_utc)
-    from siderod.clockhealth import read_clock_health
+    from siderod.service.clockhealth import read_clock_health
 
     inputs = inputs_from_config(
         config,
@@ -97,9 +97,9 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
     import os
 
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
-    from siderod.clock import SystemClock
-    from siderod.clockhealth import read_clock_health
-    from siderod.paths import resolve_paths
+    from siderod.common.clock import SystemClock
+    from siderod.files.paths import resolve_paths
+    from siderod.service.clockhealth import read_clock_health
     from siderod.service.control import request_once
     from siderod.service.protocol import snapshot_from_json
     from siderod.view.live import BoardFeed, run_live
@@ -137,8 +137,8 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
 
 def _ask_service(env: Any) -> tuple[Any, str]:
     """(snapshot, source note), or (None, why the board is computed here)."""
-    from siderod.errors import ServiceNotRunning, SiderodError
-    from siderod.paths import resolve_paths
+    from siderod.common.errors import ServiceNotRunning, SiderodError
+    from siderod.files.paths import resolve_paths
     from siderod.service.control import request_once
     from siderod.service.protocol import snapshot_from_json
 
@@ -153,7 +153,7 @@ def _ask_service(env: Any) -> tuple[Any, str]:
 
 def _load_config(args: argparse.Namespace, snapshot: Any, now_utc: Any) -> Any:
     """The file given, else the one the running service uses, else the usual search."""
-    from siderod.config import load_config
+    from siderod.files.config import load_config
 
     explicit = getattr(args, "config", None)
     if explicit is None and snapshot is not None and snapshot.config_path:

@@ -14,7 +14,7 @@ from collections.abc import Awaitable, Callable
 from dataclasses import dataclass
 from datetime import datetime
 
-from siderod.clock import Clock
+from siderod.common.clock import Clock
 
 __all__ = ["ClockAnomaly", "classify_progress", "ClockWatch", "STEP_TOLERANCE_SECONDS"]
 

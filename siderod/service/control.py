@@ -26,7 +26,7 @@ from collections.abc import Awaitable, Callable, Mapping
 from pathlib import Path
 from typing import Any
 
-from siderod.errors import ControlError, ServiceNotRunning, SiderodError
+from siderod.common.errors import ControlError, ServiceNotRunning, SiderodError
 from siderod.service.protocol import (
     MAX_REPLY_BYTES,
     MAX_REQUEST_BYTES,

@@ -26,10 +26,9 @@ from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 from typing import Any
 
-from siderod.clock import Clock
-from siderod.errors import ControlError, SiderodError
-from siderod.ledger import Ledger, LedgerRow
-from siderod.model import (
+from siderod.common.clock import Clock
+from siderod.common.errors import ControlError, SiderodError
+from siderod.common.model import (
     ClockHealth,
     Config,
     Delivery,
@@ -37,7 +36,7 @@ from siderod.model import (
     ServiceSnapshot,
     Urgency,
 )
-from siderod.planner import SKY_TARGET_NAME, format_missed_summary, plan_alerts
+from siderod.plan.planner import SKY_TARGET_NAME, format_missed_summary, plan_alerts
 from siderod.service.anomaly import ClockAnomaly, ClockWatch
 from siderod.service.delivery import (
     AlertMessage,
@@ -47,6 +46,7 @@ from siderod.service.delivery import (
     build_channels,
     message_for_alert,
 )
+from siderod.service.ledger import Ledger, LedgerRow
 from siderod.service.scheduling import Scheduler, SchedulerFactory
 
 __all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS"]
@@ -67,7 +67,7 @@ LEDGER_KEEP_DAYS = 14
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
 STOP_WAIT_SECONDS = 15.0
 
-# agenda_source(config, start_utc, hours) -> Agenda (siderod.agenda.compute_agenda by default)
+# agenda_source(config, start_utc, hours) -> Agenda (siderod.plan.agenda.compute_agenda by default)
 AgendaSource = Callable[[Config, datetime, float], Any]
 
 
@@ -94,7 +94,7 @@ class Service:
         channels: fixed channels (tests); None builds them from ``[notify]`` and rebuilds on reload.
         paths: anything with ``ledger_path``, ``socket_path`` and ``lock_path`` (``paths.Paths``).
         ledger_path: overrides ``paths.ledger_path``; one of the two is required.
-        agenda_source: computes the agenda; None uses ``siderod.agenda.compute_agenda``.
+        agenda_source: computes the agenda; None uses ``siderod.plan.agenda.compute_agenda``.
         control: serve the control socket (needs ``paths``).
         env: the environment for sd_notify (``os.environ`` when None).
         anomaly_period_seconds: monotonic seconds between clock checks.
@@ -102,9 +102,9 @@ class Service:
         offload_planning: compute the agenda in a worker thread so the loop stays responsive.
             Tests under FakeClock pass False so that simulated time cannot run on meanwhile.
         boot_seconds: CLOCK_BOOTTIME reader to tell a suspend from a step (None: cannot tell).
-        clock_health_reader: returns ClockHealth; None uses ``siderod.clockhealth``.
+        clock_health_reader: returns ClockHealth; None uses ``siderod.service.clockhealth``.
         sun_altitude_deg: Sun altitude at a UTC instant for the hold rule; None computes it with
-            ``siderod.positions`` when that is available.
+            ``siderod.plan.positions`` when that is available.
     """
 
     def __init__(
@@ -127,7 +127,7 @@ class Service:
         sun_altitude_deg: Callable[[datetime], float] | None = None,
     ) -> None:
         if ledger_path is None and paths is None:
-            raise ValueError("Service needs paths (from siderod.paths.resolve_paths) or ledger_path")
+            raise ValueError("Service needs paths (from siderod.files.paths.resolve_paths) or ledger_path")
         self._config_loader = config_loader
         self._clock = clock
         self._scheduler_factory = scheduler_factory
@@ -638,7 +638,7 @@ class Service:
             if self._clock_health_reader is not None:
                 health = self._clock_health_reader()
             else:
-                from siderod.clockhealth import format_clock_warning, read_clock_health
+                from siderod.service.clockhealth import format_clock_warning, read_clock_health
 
                 health = read_clock_health()
                 warning = format_clock_warning(health, self.config.time.clock_tolerance_seconds)
@@ -671,7 +671,7 @@ class Service:
     async def _compute_agenda(self, config: Config, start_utc: datetime, hours: float) -> Any:
         source = self._agenda_source
         if source is None:
-            from siderod.agenda import compute_agenda
+            from siderod.plan.agenda import compute_agenda
 
             def source(c: Config, s: datetime, h: float) -> Any:
                 return compute_agenda(c, s, h)
@@ -739,7 +739,7 @@ def _sun_altitude_function(config: Config) -> Callable[[Sequence[datetime]], Seq
         return None
     from siderod.astro.sunmoon import observe_sun
     from siderod.astro.timescales import instants_from_unix
-    from siderod.positions import observer_for
+    from siderod.plan.positions import observer_for
 
     observer = observer_for(config)
 

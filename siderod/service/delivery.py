@@ -19,7 +19,7 @@ from datetime import datetime
 from typing import Any, Protocol
 from zoneinfo import ZoneInfo
 
-from siderod.model import COMMAND_PLACEHOLDERS, ChannelHealth, Config, PlannedAlert, Urgency
+from siderod.common.model import COMMAND_PLACEHOLDERS, ChannelHealth, Config, PlannedAlert, Urgency
 
 __all__ = [
     "Channel",

@@ -17,8 +17,8 @@ from dataclasses import dataclass
 from datetime import UTC, datetime
 from typing import Any
 
-from siderod.errors import SiderodError
-from siderod.model import (
+from siderod.common.errors import SiderodError
+from siderod.common.model import (
     ChannelHealth,
     ClockHealth,
     Delivery,

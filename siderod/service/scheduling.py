@@ -18,9 +18,9 @@ from collections.abc import Callable, Sequence
 from datetime import UTC, datetime
 from typing import Protocol
 
-from siderod.clock import Clock
-from siderod.errors import InternalError
-from siderod.model import PlannedAlert
+from siderod.common.clock import Clock
+from siderod.common.errors import InternalError
+from siderod.common.model import PlannedAlert
 
 __all__ = ["Scheduler", "SchedulerFactory", "APSchedulerAdapter", "ClockScheduler"]
 

@@ -22,8 +22,7 @@ from rich.console import Group
 from rich.text import Text
 
 from siderod.astro.constants import SIDEREAL_PER_SOLAR, UNIX_EPOCH_JD
-from siderod.clockhealth import format_clock_warning
-from siderod.model import (
+from siderod.common.model import (
     ClockHealth,
     Config,
     Delivery,
@@ -34,6 +33,7 @@ from siderod.model import (
     ServiceSnapshot,
     Urgency,
 )
+from siderod.service.clockhealth import format_clock_warning
 from siderod.view.columns import ColumnSpec, choose_columns
 
 __all__ = [
@@ -98,7 +98,7 @@ class BoardInputs:
     Attributes:
         now_utc: the instant the frame shows (aware).
         config: the configuration in use (site, targets, mount).
-        sky: a ``siderod.positions.SkyState`` computed at ``sky_utc`` (per-target arrays of
+        sky: a ``siderod.plan.positions.SkyState`` computed at ``sky_utc`` (per-target arrays of
             shape (N,), plus Sun, Moon and sidereal scalars), or None before the first one.
         sky_utc: the instant ``sky`` was computed for; the clock is carried forward from it at
             the mean sidereal rate, which is exact to far below a millisecond over seconds.
@@ -275,20 +275,20 @@ def inputs_from_config(
 ) -> BoardInputs:
     """Board inputs computed from a configuration at one instant (positions, agenda, local plan).
 
-    Pure: it calls ``siderod.positions.compute_sky`` and, when ``agenda`` is None,
-    ``siderod.agenda.compute_agenda`` from ``now_utc`` for the configured window. When there is
-    no ``snapshot`` the alerts shown are those ``siderod.planner.plan_alerts`` would plan.
+    Pure: it calls ``siderod.plan.positions.compute_sky`` and, when ``agenda`` is None,
+    ``siderod.plan.agenda.compute_agenda`` from ``now_utc`` for the configured window. When there is
+    no ``snapshot`` the alerts shown are those ``siderod.plan.planner.plan_alerts`` would plan.
     """
-    from siderod.positions import compute_sky
+    from siderod.plan.positions import compute_sky
 
     if agenda is None:
-        from siderod.agenda import compute_agenda
+        from siderod.plan.agenda import compute_agenda
 
         agenda = compute_agenda(config, now_utc)
     sky = compute_sky(config, now_utc.timestamp())
     local_alerts: tuple[PlannedAlert, ...] = ()
     if snapshot is None:
-        from siderod.planner import plan_alerts
+        from siderod.plan.planner import plan_alerts
 
         local_alerts = plan_alerts(agenda, config, muted={}, now_utc=now_utc)
     return BoardInputs(
@@ -906,11 +906,11 @@ _TARGET_WORDS = {
 
 def _demo_inputs() -> BoardInputs:
     """The demo configuration at :data:`DEMO_INSTANT_UTC`, with an invented service state."""
-    from siderod.agenda import compute_agenda
     from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
-    from siderod.config import load_config
-    from siderod.model import ChannelHealth
-    from siderod.planner import plan_alerts
+    from siderod.common.model import ChannelHealth
+    from siderod.files.config import load_config
+    from siderod.plan.agenda import compute_agenda
+    from siderod.plan.planner import plan_alerts
 
     config = load_config(None, env={})
     now_utc = DEMO_INSTANT_UTC

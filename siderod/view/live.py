@@ -21,8 +21,8 @@ from rich.console import Console, ConsoleOptions, RenderResult
 from rich.live import Live
 from rich.segment import Segment
 
-from siderod.clock import Clock
-from siderod.model import ClockHealth, Config, PlannedAlert, ServiceSnapshot
+from siderod.common.clock import Clock
+from siderod.common.model import ClockHealth, Config, PlannedAlert, ServiceSnapshot
 from siderod.view.board import BoardInputs, compose_board, render_clock
 
 __all__ = ["MAX_REFRESH_HZ", "BoardFeed", "run_live", "log_to_console"]
@@ -142,7 +142,7 @@ class BoardFeed:
 
     async def inputs_at(self, now_utc: datetime) -> BoardInputs:
         """Everything one frame needs at ``now_utc``."""
-        from siderod.positions import compute_sky
+        from siderod.plan.positions import compute_sky
 
         config = self._get_config()
         if config is not self._config:
@@ -178,7 +178,7 @@ class BoardFeed:
             await asyncio.gather(self._agenda_task, return_exceptions=True)
 
     async def _refresh_snapshot(self, now_utc: datetime) -> None:
-        from siderod.errors import SiderodError
+        from siderod.common.errors import SiderodError
 
         if self._get_snapshot is None:
             return
@@ -213,8 +213,8 @@ class BoardFeed:
         return self._agenda
 
     async def _compute_agenda(self, config: Config, start_utc: datetime) -> None:
-        from siderod.agenda import compute_agenda
-        from siderod.planner import plan_alerts
+        from siderod.plan.agenda import compute_agenda
+        from siderod.plan.planner import plan_alerts
 
         try:
             # Cover the refresh interval too, so that a full window ahead is known at every frame

@@ -34,8 +34,8 @@ CLOCK_TICKS = os.sysconf("SC_CLK_TCK")
 
 
 def _config_with_targets(count: int):
-    from siderod.config import load_config
-    from siderod.model import Frame, Target
+    from siderod.common.model import Frame, Target
+    from siderod.files.config import load_config
 
     config = load_config(str(DEMO), env=dict(os.environ))
     rng = random.Random(1000)
@@ -53,8 +53,8 @@ def child(count: int) -> None:
     import logging
 
     logging.basicConfig(level=logging.WARNING, stream=sys.stderr)
-    from siderod.clock import SystemClock
-    from siderod.paths import resolve_paths
+    from siderod.common.clock import SystemClock
+    from siderod.files.paths import resolve_paths
     from siderod.service.daemon import Service
 
     config = _config_with_targets(count)
@@ -104,8 +104,8 @@ def bench_idle(count: int, idle_seconds: float) -> None:
 
 
 async def bench_real_latency(count: int = 60, spacing_seconds: float = 0.25) -> None:
-    from siderod.clock import SystemClock
-    from siderod.model import ClockHealth, Event, EventKind
+    from siderod.common.clock import SystemClock
+    from siderod.common.model import ClockHealth, Event, EventKind
 
     sys.path.insert(0, str(REPO / "tests" / "helpers"))
     import service_fakes as fakes  # noqa: E402
@@ -135,10 +135,10 @@ async def bench_real_latency(count: int = 60, spacing_seconds: float = 0.25) -> 
 
 
 async def bench_simulated_night() -> None:
-    from siderod.agenda import compute_agenda
-    from siderod.clock import FakeClock
-    from siderod.config import load_config
-    from siderod.model import ClockHealth
+    from siderod.common.clock import FakeClock
+    from siderod.common.model import ClockHealth
+    from siderod.files.config import load_config
+    from siderod.plan.agenda import compute_agenda
     from siderod.service.daemon import Service
     from siderod.service.scheduling import ClockScheduler
 

@@ -23,9 +23,9 @@ from datetime import UTC, datetime
 
 import numpy as np
 
-from siderod.clock import SystemClock
-from siderod.config import load_config
-from siderod.model import Frame, Target
+from siderod.common.clock import SystemClock
+from siderod.common.model import Frame, Target
+from siderod.files.config import load_config
 from siderod.view.live import BoardFeed, run_live
 from siderod.view.theme import make_console
 
@@ -73,7 +73,7 @@ def measure_ours(config, agenda, hz: float, seconds: float) -> float:
 def measure_naive(config, frames: int) -> float:
     from rich.table import Table
 
-    from siderod.positions import compute_sky
+    from siderod.plan.positions import compute_sky
 
     devnull = open(os.devnull, "w")  # noqa: SIM115 -- closed below
     console = make_console({}, file=devnull, width=WIDTH, height=HEIGHT, force_terminal=True,
@@ -99,7 +99,7 @@ def main() -> None:
     parser.add_argument("--naive-frames", type=int, default=3)
     args = parser.parse_args()
 
-    from siderod.agenda import compute_agenda
+    from siderod.plan.agenda import compute_agenda
 
     config = invented_config()
     t0 = time.perf_counter()

@@ -13,8 +13,8 @@ import pytest
 
 from siderod.cli import control
 from siderod.cli.control import format_duration, parse_duration_seconds
-from siderod.errors import SiderodError
-from siderod.model import (
+from siderod.common.errors import SiderodError
+from siderod.common.model import (
     ChannelHealth,
     ClockHealth,
     Event,

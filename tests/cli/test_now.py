@@ -59,7 +59,7 @@ def test_sidereal_time_matches_erfa(capsys, demo_config_path):
 
 
 def test_one_demo_star_matches_atco13_with_refraction(capsys, demo_config, demo_config_path):
-    from siderod.positions import observer_for
+    from siderod.plan.positions import observer_for
 
     data, _ = _now_json(capsys, "--config", str(demo_config_path))
     (capella,) = [t for t in data["targets"] if t["name"] == "Capella"]

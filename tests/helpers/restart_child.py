@@ -65,7 +65,7 @@ class FileChannel:
 
 
 def expected_events(fakes, count: int):
-    from siderod.model import Event, EventKind
+    from siderod.common.model import Event, EventKind
 
     return [
         Event(fakes.NIGHT_START_UTC + timedelta(seconds=FIRST_DUE_SECONDS + i * SPACING_SECONDS),
@@ -81,7 +81,7 @@ def main(argv: list[str]) -> int:
 
     logging.basicConfig(level=logging.INFO, stream=sys.stderr, format="%(name)s %(levelname)s %(message)s")
     fakes = _load_fakes()
-    from siderod.model import EventKind
+    from siderod.common.model import EventKind
     from siderod.service.daemon import Service
     from siderod.service.scheduling import ClockScheduler
 
@@ -104,7 +104,7 @@ def main(argv: list[str]) -> int:
         offload_planning=False,
         file_poll_seconds=0,
         anomaly_period_seconds=20.0,
-        clock_health_reader=lambda: __import__("siderod.model").model.ClockHealth(state="unknown"),
+        clock_health_reader=lambda: __import__("siderod.common.model").common.model.ClockHealth(state="unknown"),
     )
     print("child up", flush=True)
     asyncio.run(service.run(install_signal_handlers=True))

@@ -14,8 +14,8 @@ import asyncio
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 
-from siderod.clock import FakeClock
-from siderod.model import (
+from siderod.common.clock import FakeClock
+from siderod.common.model import (
     AlertRules,
     Config,
     Event,
@@ -140,7 +140,7 @@ def make_config(
 
 
 def _icrs():
-    from siderod.model import Frame
+    from siderod.common.model import Frame
 
     return Frame.ICRS
 

@@ -7,11 +7,11 @@ from datetime import UTC, datetime, timedelta
 import pytest
 from helpers import service_fakes as fakes
 
-from siderod.clock import FakeClock
-from siderod.ledger import Ledger
-from siderod.model import ClockHealth, EventKind
-from siderod.planner import plan_alerts
+from siderod.common.clock import FakeClock
+from siderod.common.model import ClockHealth, EventKind
+from siderod.plan.planner import plan_alerts
 from siderod.service.anomaly import STEP_TOLERANCE_SECONDS, classify_progress
+from siderod.service.ledger import Ledger
 from siderod.service.scheduling import ClockScheduler
 
 ANOMALY_PERIOD_SECONDS = 2.0  # the service's default check period

@@ -8,7 +8,7 @@ from datetime import UTC, datetime
 
 import pytest
 
-from siderod.model import COMMAND_PLACEHOLDERS, Urgency
+from siderod.common.model import COMMAND_PLACEHOLDERS, Urgency
 from siderod.service.delivery import AlertMessage, ChannelFailed, CommandChannel
 
 EVENT_UTC = datetime(2026, 12, 14, 22, 34, 5, tzinfo=UTC)

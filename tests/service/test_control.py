@@ -14,7 +14,7 @@ from pathlib import Path
 
 import pytest
 
-from siderod.errors import ControlError, ServiceNotRunning, SiderodError
+from siderod.common.errors import ControlError, ServiceNotRunning, SiderodError
 from siderod.service.control import (
     ControlServer,
     ServiceAlreadyRunning,

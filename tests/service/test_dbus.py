@@ -21,7 +21,7 @@ from pathlib import Path
 
 import pytest
 
-from siderod.model import EventKind, Urgency
+from siderod.common.model import EventKind, Urgency
 from siderod.service.delivery import AlertMessage, ChannelFailed, DesktopChannel, LogChannel
 
 pytestmark = [pytest.mark.slow, pytest.mark.needs_dbus]
@@ -182,7 +182,7 @@ async def _service_with(tmp_path, channels, clock):
         lambda: config, clock, lambda on_due: ClockScheduler(on_due, clock), channels,
         ledger_path=tmp_path / "ledger.sqlite3", agenda_source=fakes.FixedAgendaSource([event]),
         control=False, env={}, offload_planning=False, file_poll_seconds=0,
-        clock_health_reader=lambda: __import__("siderod.model").model.ClockHealth(state="unknown"),
+        clock_health_reader=lambda: __import__("siderod.common.model").common.model.ClockHealth(state="unknown"),
     )
     return service, event
 
@@ -204,7 +204,7 @@ async def _run_until_delivered(service, clock, due_utc, done) -> asyncio.Task:
 
 
 async def test_service_alert_reaches_the_bus(notify_server, tmp_path):
-    from siderod.clock import FakeClock
+    from siderod.common.clock import FakeClock
 
     fakes = _load_fakes()
     process, record = notify_server
@@ -224,7 +224,7 @@ async def test_service_alert_reaches_the_bus(notify_server, tmp_path):
 
 
 async def test_service_with_hung_server_keeps_delivering_elsewhere(notify_server, tmp_path, caplog):
-    from siderod.clock import FakeClock
+    from siderod.common.clock import FakeClock
 
     fakes = _load_fakes()
     process, record = notify_server

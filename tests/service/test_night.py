@@ -7,8 +7,8 @@ from datetime import timedelta
 import pytest
 from helpers import service_fakes as fakes
 
-from siderod.clock import FakeClock
-from siderod.planner import plan_alerts
+from siderod.common.clock import FakeClock
+from siderod.plan.planner import plan_alerts
 from siderod.service.scheduling import ClockScheduler
 
 # The issue's requirement: each alert within 1 s (simulated) of its due time.
@@ -36,7 +36,7 @@ def _service(tmp_path, clock, config, source, channels, **kw):
 
 
 def fakes_clock_health():
-    from siderod.model import ClockHealth
+    from siderod.common.model import ClockHealth
 
     return ClockHealth(state="synchronised", estimated_error_seconds=0.001)
 
@@ -76,10 +76,10 @@ async def test_whole_night_every_alert_once_in_order_on_time(tmp_path):
 
 @pytest.mark.slow
 async def test_demo_night_through_the_real_agenda(tmp_path, demo_config):
-    """The demo night (Corrie Hill, 2026-12-14/15) with siderod.agenda: same checks as above."""
+    """The demo night (Corrie Hill, 2026-12-14/15) with siderod.plan.agenda: same checks as above."""
     from dataclasses import replace
 
-    from siderod.agenda import compute_agenda
+    from siderod.plan.agenda import compute_agenda
 
     config = replace(demo_config, alerts=replace(demo_config.alerts, horizon_hours=6.0),
                      notify=replace(demo_config.notify, desktop=False))

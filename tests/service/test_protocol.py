@@ -12,7 +12,7 @@ from helpers import service_fakes as fakes
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from siderod.model import (
+from siderod.common.model import (
     ChannelHealth,
     ClockHealth,
     Delivery,

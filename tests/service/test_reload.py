@@ -15,9 +15,9 @@ from pathlib import Path
 import pytest
 from helpers import service_fakes as fakes
 
-from siderod.clock import FakeClock
-from siderod.errors import ConfigError, ConfigErrors
-from siderod.model import ClockHealth, Event, EventKind
+from siderod.common.clock import FakeClock
+from siderod.common.errors import ConfigError, ConfigErrors
+from siderod.common.model import ClockHealth, Event, EventKind
 from siderod.service.scheduling import ClockScheduler
 
 FILE_POLL_SECONDS = 5.0

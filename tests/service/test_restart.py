@@ -17,7 +17,7 @@ from pathlib import Path
 
 import pytest
 
-from siderod.ledger import Ledger
+from siderod.service.ledger import Ledger
 
 CHILD = Path(__file__).resolve().parents[1] / "helpers" / "restart_child.py"
 SPEED = 200.0  # simulated seconds per real second
@@ -89,9 +89,9 @@ async def test_restart_resends_only_to_channels_that_had_not_taken_it(tmp_path):
 
     from helpers import service_fakes as fakes
 
-    from siderod.clock import FakeClock
-    from siderod.model import ClockHealth, Delivery, EventKind
-    from siderod.planner import plan_alerts
+    from siderod.common.clock import FakeClock
+    from siderod.common.model import ClockHealth, Delivery, EventKind
+    from siderod.plan.planner import plan_alerts
     from siderod.service.daemon import Service
     from siderod.service.scheduling import ClockScheduler
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 import asyncio
 from datetime import UTC, datetime, timedelta
 
-from siderod.model import Event, EventKind, PlannedAlert, Urgency
-from siderod.planner import alert_key
+from siderod.common.model import Event, EventKind, PlannedAlert, Urgency
+from siderod.plan.planner import alert_key
 from siderod.service.scheduling import APSchedulerAdapter
 
 FIRE_TIMEOUT_SECONDS = 2.0  # a job due now runs on the next loop turns; this only bounds a failure

@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 from rich.console import Console, Group
 
-from siderod.model import (
+from siderod.common.model import (
     ChannelHealth,
     ClockHealth,
     Config,
@@ -328,8 +328,8 @@ def test_with_colour_the_named_styles_are_used():
 
 @pytest.fixture(scope="module")
 def demo_frame():
-    from siderod.agenda import compute_agenda
-    from siderod.config import load_config
+    from siderod.files.config import load_config
+    from siderod.plan.agenda import compute_agenda
     from siderod.view.board import inputs_from_config
 
     config = load_config(None, env={}, at_unix=DEMO_INSTANT_UTC.timestamp())

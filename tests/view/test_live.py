@@ -11,9 +11,9 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 
-from siderod.clock import FakeClock
-from siderod.errors import ServiceNotRunning
-from siderod.model import Config, Frame, Site, Target
+from siderod.common.clock import FakeClock
+from siderod.common.errors import ServiceNotRunning
+from siderod.common.model import Config, Frame, Site, Target
 from siderod.view.board import BoardInputs
 from siderod.view.live import BoardFeed, log_to_console, run_live
 from siderod.view.theme import make_console

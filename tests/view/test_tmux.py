@@ -150,7 +150,7 @@ def wrapped_difference(a_seconds: float, b_seconds: float) -> float:
 
 
 def demo_config():
-    from siderod.config import load_config
+    from siderod.files.config import load_config
 
     return load_config(str(DEMO_CONFIG), env={}, at_unix=AT_UTC.timestamp())
 

@@ -1,8 +1,8 @@
 """Where every target, the Sun and the Moon are for one site at one instant: one vectorised call.
 
-Pure: a :class:`~siderod.model.Config` and POSIX seconds in, a :class:`SkyState` of arrays out.
+Pure: a :class:`~siderod.common.model.Config` and POSIX seconds in, a :class:`SkyState` of arrays out.
 No clock, no files (DUT1 comes from ``config.time.dut1_seconds``; the CLI looks it up for the
-instant with :func:`siderod.config.dut1_at` first).
+instant with :func:`siderod.files.config.dut1_at` first).
 """
 
 from __future__ import annotations
@@ -18,7 +18,7 @@ from siderod.astro.refraction import airmass, refraction_from_true_deg
 from siderod.astro.sidereal import last_hours, lmst_hours
 from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun, sun_separation_deg
 from siderod.astro.timescales import instants_from_unix
-from siderod.model import Config, Frame, Site, Target
+from siderod.common.model import Config, Frame, Site, Target
 
 __all__ = [
     "TWILIGHT_LIMITS_DEG",

@@ -12,7 +12,7 @@ import ctypes
 import os
 import sys
 
-from siderod.model import ClockHealth
+from siderod.common.model import ClockHealth
 
 __all__ = [
     "STA_UNSYNC",

@@ -12,7 +12,7 @@ from datetime import UTC, datetime, timedelta
 from typing import Protocol
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
-from siderod.model import (
+from siderod.common.model import (
     Config,
     Event,
     EventKind,
@@ -57,7 +57,7 @@ def plan_alerts(
     """Turn an agenda into the alerts to give, sorted by due time (then key).
 
     Args:
-        agenda: anything with ``events`` (``siderod.agenda.Agenda``).
+        agenda: anything with ``events`` (``siderod.plan.agenda.Agenda``).
         config: the whole configuration; ``alerts`` gives lead times, urgency, hold and grace,
             each ``Target`` may override lead times or switch its alerts off.
         muted: target name -> muted until (aware UTC), or None for "until unmuted". The name
@@ -127,7 +127,7 @@ def _held_by_sun(
 def alert_key(event: Event, lead_minutes: float) -> str:
     """The stable identity of one alert: ``target|kind|event time to the second|lead``.
 
-    >>> from siderod.model import Event, EventKind
+    >>> from siderod.common.model import Event, EventKind
     >>> when = datetime(2026, 12, 14, 22, 3, 7, 600000, tzinfo=UTC)
     >>> alert_key(Event(when, EventKind.FLIP_DUE, "M42", 40.0, 180.0), 10)
     'M42|flip-due|2026-12-14T22:03:08Z|10'

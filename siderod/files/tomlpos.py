@@ -4,7 +4,7 @@
 same text. It is only used to point at lines: when it cannot tell, it returns ``None`` or the line
 of the nearest enclosing key, never an error.
 
-The second half holds :class:`Problems`, which gathers every :class:`~siderod.errors.ConfigError`
+The second half holds :class:`Problems`, which gathers every :class:`~siderod.common.errors.ConfigError`
 of one file (with its line) so that a file is reported whole, and the ``read_*`` helpers that
 check one value each for the configuration and target parsers.
 
@@ -23,7 +23,7 @@ import tomllib
 from collections.abc import Callable, Collection, Mapping
 from typing import Any
 
-from siderod.errors import ConfigError, ConfigErrors
+from siderod.common.errors import ConfigError, ConfigErrors
 
 __all__ = [
     "MISSING",

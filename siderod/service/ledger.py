@@ -24,8 +24,8 @@ from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
-from siderod.model import Delivery, PlannedAlert
-from siderod.planner import SKY_TARGET_NAME
+from siderod.common.model import Delivery, PlannedAlert
+from siderod.plan.planner import SKY_TARGET_NAME
 
 __all__ = ["Ledger", "LedgerRow", "EVENT_MATCH_SECONDS"]
 

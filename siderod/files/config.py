@@ -1,7 +1,7 @@
 """Find, read and check a siderod configuration file and its target files, all or nothing.
 
 Every problem in the configuration and in every target file it names is collected and raised
-together as :class:`~siderod.errors.ConfigErrors`; nothing is half-loaded. Angles go through
+together as :class:`~siderod.common.errors.ConfigErrors`; nothing is half-loaded. Angles go through
 :func:`siderod.astro.angles.parse_angle_deg`.
 """
 
@@ -15,8 +15,8 @@ from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
-from siderod.errors import ConfigError, ConfigErrors
-from siderod.model import (
+from siderod.common.errors import ConfigError, ConfigErrors
+from siderod.common.model import (
     COMMAND_PLACEHOLDERS,
     AlertRules,
     Config,
@@ -31,14 +31,14 @@ from siderod.model import (
     Urgency,
     ViewSettings,
 )
-from siderod.paths import resolve_paths
-from siderod.targets import (
+from siderod.files.paths import resolve_paths
+from siderod.files.targets import (
     MIN_ALTITUDE_RANGE_DEG,
     collect_targets_csv,
     collect_targets_toml,
     parse_lead_minutes,
 )
-from siderod.tomlpos import (
+from siderod.files.tomlpos import (
     Problems,
     parse_angle_value,
     read_angle,
@@ -72,7 +72,7 @@ FOUND_USER = "the user configuration file"
 FOUND_BUNDLED_DEMO = "bundled demo: no --config, no $SIDEROD_CONFIG, no user configuration file"
 
 #: Placeholders a ``[notify] command`` may use.
-NOTIFY_PLACEHOLDERS = COMMAND_PLACEHOLDERS  # one list, in siderod.model
+NOTIFY_PLACEHOLDERS = COMMAND_PLACEHOLDERS  # one list, in siderod.common.model
 
 #: Urgency of each event kind unless ``[alerts.urgency]`` says otherwise: a missed flip can drive
 #: a mount into its pier, so flip and limit alerts are critical.
@@ -127,7 +127,7 @@ def find_config(explicit: str | None, env: Mapping[str, str]) -> tuple[Path, str
 
 def demo_config_path() -> Path:
     """The bundled demo configuration (``siderod/demo/demo.toml``)."""
-    return Path(__file__).resolve().parent / "demo" / "demo.toml"
+    return Path(__file__).resolve().parent.parent / "demo" / "demo.toml"
 
 
 def load_config(explicit: str | None = None, env: Mapping[str, str] | None = None, *,
@@ -141,7 +141,7 @@ def load_config(explicit: str | None = None, env: Mapping[str, str] | None = Non
             the current time when None.
 
     Returns:
-        The whole, checked :class:`~siderod.model.Config` (``is_demo`` set for the bundled demo).
+        The whole, checked :class:`~siderod.common.model.Config` (``is_demo`` set for the bundled demo).
 
     Raises:
         ConfigErrors: every problem found, in file and line order.
@@ -167,7 +167,7 @@ def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None
         at_unix: instant for the DUT1 look-up when ``dut1 = "iers"`` (now when None).
 
     Returns:
-        The whole :class:`~siderod.model.Config`.
+        The whole :class:`~siderod.common.model.Config`.
 
     Raises:
         ConfigErrors: every problem in the configuration and its target files.

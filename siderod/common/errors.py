@@ -37,7 +37,7 @@ def __getattr__(name: str):
         import importlib
 
         return getattr(importlib.import_module(_ASTRO_ERRORS[name]), name)
-    raise AttributeError(f"module 'siderod.errors' has no attribute {name!r}")
+    raise AttributeError(f"module 'siderod.common.errors' has no attribute {name!r}")
 
 
 class SiderodError(Exception):

@@ -2,7 +2,7 @@
 
 Every angle goes through :func:`siderod.astro.angles.parse_angle_deg`. Galactic and J2000 ecliptic
 coordinates are turned into ICRS here, once; ecliptic-of-date targets and fixed hour-angle
-pointings are resolved per instant by :mod:`siderod.positions`.
+pointings are resolved per instant by :mod:`siderod.plan.positions`.
 """
 
 from __future__ import annotations
@@ -12,8 +12,8 @@ import io
 from collections.abc import Iterator, Mapping
 from typing import Any
 
-from siderod.model import EventKind, Frame, Target
-from siderod.tomlpos import (
+from siderod.common.model import EventKind, Frame, Target
+from siderod.files.tomlpos import (
     Problems,
     parse_angle_value,
     read_angle,
@@ -337,7 +337,7 @@ def _to_icrs(frame: Frame, lon_deg: float, lat_deg: float) -> tuple[float | None
         ra, dec = frames.galactic_to_icrs_deg(lon_deg, lat_deg)
         return float(ra), float(dec), None
     # Ecliptic of J2000 -> ICRS. For ecliptic-of-date the RA is left None (resolved per instant by
-    # siderod.positions.target_stars); the J2000 Dec is kept as a close stand-in (precession moves
+    # siderod.plan.positions.target_stars); the J2000 Dec is kept as a close stand-in (precession moves
     # it by well under a degree per century) for anything that needs a rough declination.
     ra, dec = frames.ecliptic_j2000_to_icrs_deg(lon_deg, lat_deg)
     if frame is Frame.ECLIPTIC_OF_DATE:

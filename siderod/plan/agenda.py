@@ -32,8 +32,8 @@ from siderod.astro.places import Observer, hadec_to_altaz
 from siderod.astro.sidereal import FastSidereal
 from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun
 from siderod.astro.timescales import instants_from_unix
-from siderod.model import Config, Event, EventKind, Frame, MountKind, Target
-from siderod.positions import observer_for, target_stars
+from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
+from siderod.plan.positions import observer_for, target_stars
 
 __all__ = [
     "Agenda",

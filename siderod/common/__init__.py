@@ -1,0 +1,1 @@
+"""What every layer shares: records (`model`), the error tree (`errors`), the injectable clock."""

@@ -1,0 +1,1 @@
+"""Reading and checking the user's files: configuration, target lists, where things live on disk."""
