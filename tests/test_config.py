@@ -389,3 +389,13 @@ def test_dut1_iers_without_tables_falls_back_to_zero(monkeypatch):
     config = _parse(SITE + '[time]\ndut1 = "iers"\n')
     assert config.time.dut1_seconds == 0.0
     assert "no IERS finals2000A.all was found" in config.time.dut1_source
+
+
+def test_hold_kinds_names_target_kinds_only_and_needs_the_hold():
+    config = _parse(SITE + '[alerts]\nhold_while_sun_above = -6\nhold_kinds = ["culmination", "flip-due"]\n')
+    assert config.alerts.hold_kinds == (EventKind.CULMINATION, EventKind.FLIP_DUE)
+    assert _parse(SITE + "[alerts]\nhold_while_sun_above = -6\n").alerts.hold_kinds is None
+    error = _one_error(SITE + '[alerts]\nhold_while_sun_above = -6\nhold_kinds = ["sunset"]\n')
+    assert error.key == "alerts.hold_kinds[1]" and "never held" in str(error)
+    error = _one_error(SITE + '[alerts]\nhold_kinds = ["culmination"]\n')
+    assert error.key == "alerts.hold_kinds" and "only together with hold_while_sun_above" in str(error)

@@ -106,13 +106,13 @@ def test_sun_hold_applies_to_target_events_only():
     def sun_alt_deg(moments_utc):  # a stand-in Sun: up until 19:30, then deep down
         return [10.0 if when_utc < daylight_until else -30.0 for when_utc in moments_utc]
 
-    events = (_event(at=NOW + timedelta(hours=1)), _event(at=NOW + timedelta(hours=3)),
+    events = (_event(EventKind.CULMINATION, at=NOW + timedelta(hours=1)),
+              _event(EventKind.CULMINATION, at=NOW + timedelta(hours=3)),
               _event(EventKind.SUNSET, None, NOW + timedelta(minutes=30)))
     plan = plan_alerts(_Agenda(events), config, muted={}, now_utc=NOW, sun_altitude_deg=sun_alt_deg)
     assert [(a.event.kind, a.due_utc) for a in plan] == [
         (EventKind.SUNSET, NOW + timedelta(minutes=30)),
-        (EventKind.FLIP_DUE, NOW + timedelta(hours=2, minutes=50)),
-        (EventKind.FLIP_DUE, NOW + timedelta(hours=3)),
+        (EventKind.CULMINATION, NOW + timedelta(hours=3)),
     ]
 
 
@@ -141,3 +141,27 @@ def test_missed_summary_counts_and_truncates():
     title, body = format_missed_summary([f"alert {i}" for i in range(20)], 10.0)
     assert title == "20 alerts missed (more than 10 min late)"
     assert "alert 0" in body and "... and 8 more" in body
+
+
+def test_sun_hold_never_silences_flip_or_limit_alerts_unless_named():
+    # Equipment protection first (common practice: a missed flip can drive the mount into its
+    # pier): the hold keeps daytime quiet for ordinary target alerts only.
+    config = _config(hold_while_sun_above_deg=-12.0)
+    config = replace(config, alerts=replace(config.alerts, lead_minutes={
+        EventKind.FLIP_DUE: (0.0,), EventKind.TRACKING_LIMIT: (0.0,), EventKind.CULMINATION: (0.0,)}))
+
+    def sun_up(moments_utc):  # a stand-in Sun that is always up
+        return [10.0 for _ in moments_utc]
+
+    events = (_event(EventKind.FLIP_DUE), _event(EventKind.TRACKING_LIMIT), _event(EventKind.CULMINATION))
+    plan = plan_alerts(_Agenda(events), config, muted={}, now_utc=NOW, sun_altitude_deg=sun_up)
+    assert sorted(a.event.kind.value for a in plan) == ["flip-due", "tracking-limit"]
+    # A kind made critical in [alerts.urgency] is exempt as well.
+    urgent = replace(config, alerts=replace(config.alerts, urgency={EventKind.CULMINATION: Urgency.CRITICAL}))
+    plan = plan_alerts(_Agenda(events), urgent, muted={}, now_utc=NOW, sun_altitude_deg=sun_up)
+    assert len(plan) == 3
+    # Named explicitly in hold_kinds, a critical kind is held too.
+    both = (EventKind.FLIP_DUE, EventKind.CULMINATION)
+    named = replace(config, alerts=replace(config.alerts, hold_kinds=both))
+    plan = plan_alerts(_Agenda(events), named, muted={}, now_utc=NOW, sun_altitude_deg=sun_up)
+    assert [a.event.kind.value for a in plan] == ["tracking-limit"]

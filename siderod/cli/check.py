@@ -97,9 +97,9 @@ def format_summary(config: Any, how_found: str) -> str:
         lines.append("alerts: none configured ([alerts.lead] is empty)")
     extras = [f"grace {alerts.grace_minutes:g} min", f"plan {alerts.horizon_hours:g} h ahead",
               f"re-plan every {alerts.replan_minutes:g} min"]
-    if alerts.hold_while_sun_above_deg is not None:
-        extras.append(f"held while the Sun is above {alerts.hold_while_sun_above_deg:g}°")
     lines.append("  " + ", ".join(extras))
+    if alerts.hold_while_sun_above_deg is not None:
+        lines.extend(_hold_lines(alerts))
     channels = ["log"] + (["desktop"] if config.notify.desktop else [])
     if config.notify.command:
         timeout = config.notify.command_timeout_seconds
@@ -112,6 +112,25 @@ def format_summary(config: Any, how_found: str) -> str:
         lines.append("caution: flip and limit times come from this file; the mount's own limits always win.")
     lines.append("OK")
     return "\n".join(lines)
+
+
+def _hold_lines(alerts: Any) -> list[str]:
+    from siderod.common.model import EventKind
+    from siderod.plan.planner import SKY_KINDS, held_kinds
+
+    held = held_kinds(alerts)
+    never = [k.value for k in EventKind if k not in SKY_KINDS and k not in held]
+    how = "every target kind that is not critical"
+    if alerts.hold_kinds is not None:
+        how = "as named in hold_kinds"
+    lines = [f"  Sun hold: while the Sun is above {alerts.hold_while_sun_above_deg:g}°, no alerts for "
+             f"{', '.join(k.value for k in held) or 'no kind'} ({how})",
+             f"  never held: {', '.join(never) + ', ' if never else ''}Sun, Moon and twilight alerts"]
+    critical_held = [k.value for k in held if k in (EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT)]
+    if critical_held:
+        lines.append(f"caution: the Sun hold silences {', '.join(critical_held)} alerts in daylight "
+                     "(named in hold_kinds): a missed flip can drive the mount into its pier.")
+    return lines
 
 
 def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]) -> str:

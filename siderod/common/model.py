@@ -194,6 +194,10 @@ class AlertRules:
     lead_minutes: Mapping[EventKind, tuple[float, ...]] = field(default_factory=dict)
     urgency: Mapping[EventKind, Urgency] = field(default_factory=dict)
     hold_while_sun_above_deg: float | None = None
+    # Target event kinds the Sun hold covers; None: every target kind that is not critical
+    # (flip-due and tracking-limit by default), so the hold never hides an equipment alert
+    # unless the user names that kind here.
+    hold_kinds: tuple[EventKind, ...] | None = None
     grace_minutes: float = 10.0  # deliver late within this; beyond it the alert is "missed"
     horizon_hours: float = 36.0  # how far ahead the service plans
     replan_minutes: float = 60.0

@@ -90,7 +90,7 @@ _TIME_KEYS = ("dut1", "iers_file", "clock_tolerance")
 _TARGETS_KEYS = ("files",)
 _EVENTS_KEYS = ("min_altitude", "altitudes", "hour_angles", "refraction", "window_hours")
 _MOUNT_KEYS = ("kind", "flip_after", "limit_after")
-_ALERTS_KEYS = ("grace", "horizon_hours", "replan", "hold_while_sun_above", "lead", "urgency")
+_ALERTS_KEYS = ("grace", "horizon_hours", "replan", "hold_while_sun_above", "hold_kinds", "lead", "urgency")
 _NOTIFY_KEYS = ("desktop", "command", "command_timeout")
 _VIEW_KEYS = ("refresh_hz",)
 _IERS_FINALS_NAME = "finals2000A.all"
@@ -434,6 +434,11 @@ def _alerts(problems: Problems, data: Mapping[str, Any]) -> AlertRules:
                          what="a number of minutes")
     hold = read_angle(problems, table, "hold_while_sun_above", "alerts", kind="angle", default=None,
                       low=-90.0, high=90.0, what="a Sun altitude")
+    hold_kinds = _hold_kinds(problems, table["hold_kinds"]) if "hold_kinds" in table else None
+    if hold_kinds is not None and hold is None:
+        problems.add("alerts.hold_kinds", show_value(table["hold_kinds"]),
+                     "hold_kinds only together with hold_while_sun_above (it names the kinds that hold "
+                     "keeps quiet)")
     lead: Mapping[EventKind, tuple[float, ...]] = {}
     if "lead" in table:
         lead = parse_lead_minutes(problems, table["lead"], "alerts.lead") or {}
@@ -452,11 +457,32 @@ def _alerts(problems: Problems, data: Mapping[str, Any]) -> AlertRules:
                     if chosen is not None:
                         urgency[kinds[key]] = chosen
     return AlertRules(
-        lead_minutes=lead, urgency=urgency, hold_while_sun_above_deg=hold,
+        lead_minutes=lead, urgency=urgency, hold_while_sun_above_deg=hold, hold_kinds=hold_kinds,
         grace_minutes=grace if grace is not None else 10.0,
         horizon_hours=horizon if horizon is not None else 36.0,
         replan_minutes=replan if replan is not None else 60.0,
     )
+
+
+def _hold_kinds(problems: Problems, value: Any) -> tuple[EventKind, ...] | None:
+    # Target kinds only: Sun, Moon and twilight alerts are never held, so naming one is a mistake
+    # worth a message rather than a silent no-op.
+    from siderod.plan.planner import SKY_KINDS
+
+    target_kinds = [k.value for k in EventKind if k not in SKY_KINDS]
+    expected = f"a list of target event kinds, from: {', '.join(target_kinds)}"
+    if not isinstance(value, list):
+        problems.add("alerts.hold_kinds", show_value(value), expected)
+        return None
+    chosen: list[EventKind] = []
+    for index, item in enumerate(value, start=1):
+        if not isinstance(item, str) or item not in target_kinds:
+            sky = isinstance(item, str) and item in {k.value for k in SKY_KINDS}
+            why = " (Sun, Moon and twilight alerts are never held)" if sky else ""
+            problems.add(f"alerts.hold_kinds[{index}]", show_value(item), expected + why)
+            continue
+        chosen.append(EventKind(item))
+    return tuple(chosen)
 
 
 def _notify(problems: Problems, data: Mapping[str, Any]) -> NotifySettings:

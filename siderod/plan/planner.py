@@ -13,6 +13,7 @@ from typing import Protocol
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
 from siderod.common.model import (
+    AlertRules,
     Config,
     Event,
     EventKind,
@@ -28,7 +29,9 @@ __all__ = [
     "format_alert",
     "format_missed_summary",
     "DEFAULT_URGENCY",
+    "SKY_KINDS",
     "SKY_TARGET_NAME",
+    "held_kinds",
 ]
 
 # Kinds that warn of possible harm to equipment are critical unless [alerts] says otherwise
@@ -40,6 +43,31 @@ DEFAULT_URGENCY: Mapping[EventKind, Urgency] = {
 
 # The name under which Sun, Moon and twilight events appear in keys and mutes.
 SKY_TARGET_NAME = "sky"
+
+# Sun, Moon and twilight kinds: never held by the Sun hold (they are what an observer asks for
+# in daylight).
+SKY_KINDS: frozenset[EventKind] = frozenset({
+    EventKind.SUNSET, EventKind.SUNRISE, EventKind.CIVIL_DUSK, EventKind.NAUTICAL_DUSK,
+    EventKind.ASTRONOMICAL_DUSK, EventKind.ASTRONOMICAL_DAWN, EventKind.NAUTICAL_DAWN,
+    EventKind.CIVIL_DAWN, EventKind.MOONRISE, EventKind.MOONSET,
+})
+
+
+def held_kinds(rules: AlertRules) -> tuple[EventKind, ...]:
+    """The target event kinds that ``[alerts] hold_while_sun_above`` keeps quiet, in kind order.
+
+    ``hold_kinds`` when the user gave it; otherwise every target kind whose urgency is not
+    critical. Flip and tracking-limit alerts are critical by default, so a rule meant to keep
+    daytime quiet never hides an equipment-protection alert unless the user names that kind.
+    """
+    if rules.hold_kinds is not None:
+        chosen = set(rules.hold_kinds)
+        return tuple(kind for kind in EventKind if kind in chosen and kind not in SKY_KINDS)
+    return tuple(
+        kind for kind in EventKind
+        if kind not in SKY_KINDS
+        and rules.urgency.get(kind, DEFAULT_URGENCY.get(kind, Urgency.NORMAL)) is not Urgency.CRITICAL
+    )
 
 
 class _AgendaLike(Protocol):
@@ -72,8 +100,9 @@ def plan_alerts(
         PlannedAlert records with stable keys, sorted by ``due_utc`` then ``key``. Duplicate
         keys (the same event found twice) appear once.
 
-    The Sun hold applies to target events only: sunset, twilight and Moon alerts are the ones an
-    observer asks for in daylight.
+    The Sun hold applies to the target kinds :func:`held_kinds` names: never to sunset, twilight
+    and Moon alerts (the ones an observer asks for in daylight), and never to critical kinds
+    such as flip-due and tracking-limit unless ``alerts.hold_kinds`` names them.
     """
     rules = config.alerts
     grace = timedelta(minutes=rules.grace_minutes)
@@ -88,7 +117,7 @@ def plan_alerts(
             if due_utc < earliest_due_utc or _is_muted(muted, mute_name, due_utc, now_utc):
                 continue
             candidates.setdefault(alert_key(event, lead), (event, lead, due_utc))
-    held = _held_by_sun(candidates, rules.hold_while_sun_above_deg, sun_altitude_deg)
+    held = _held_by_sun(candidates, rules.hold_while_sun_above_deg, sun_altitude_deg, held_kinds(rules))
     planned: dict[str, PlannedAlert] = {}
     for key, (event, lead, due_utc) in candidates.items():
         if key in held:
@@ -111,13 +140,15 @@ def _held_by_sun(
     candidates: Mapping[str, tuple[Event, float, datetime]],
     hold_above_deg: float | None,
     sun_altitude_deg: Callable[[Sequence[datetime]], Sequence[float]] | None,
+    kinds: Sequence[EventKind],
 ) -> set[str]:
-    # The hold applies to target events only: sunset, twilight and Moon alerts are the ones an
-    # observer asks for in daylight. One call for every due time keeps a re-plan of thousands
-    # of alerts cheap.
+    # Only the kinds the hold covers (see held_kinds); one call for every due time keeps a
+    # re-plan of thousands of alerts cheap.
     if hold_above_deg is None or sun_altitude_deg is None:
         return set()
-    keys = [key for key, (event, _, _) in candidates.items() if event.target is not None]
+    covered = set(kinds)
+    keys = [key for key, (event, _, _) in candidates.items()
+            if event.target is not None and event.kind in covered]
     if not keys:
         return set()
     altitudes = sun_altitude_deg([candidates[key][2] for key in keys])

@@ -61,3 +61,21 @@ def test_check_end_to_end_in_a_fresh_process(tmp_path):
                             capture_output=True, text=True, timeout=60, check=False)
     assert result.returncode == 1
     assert f"{bad}:2:" in result.stdout and "valid TOML" in result.stdout
+
+
+def test_check_says_which_kinds_the_sun_hold_covers(capsys, tmp_path):
+    cfg = tmp_path / "c.toml"
+    base = ('[site]\nname = "x"\nlatitude = 50\nlongitude = 0\n[mount]\nkind = "german-equatorial"\n'
+            '[alerts]\nhold_while_sun_above = -6\n')
+    cfg.write_text(base)
+    assert main(["check", "--config", str(cfg)]) == 0
+    out, _ = capsys.readouterr()
+    covered = next(line for line in out.splitlines() if "Sun hold:" in line)
+    assert "culmination" in covered and "flip-due" not in covered and "tracking-limit" not in covered
+    never = next(line for line in out.splitlines() if "never held:" in line)
+    assert "flip-due" in never and "tracking-limit" in never
+    cfg.write_text(base + 'hold_kinds = ["culmination", "flip-due"]\n')
+    assert main(["check", "--config", str(cfg)]) == 0
+    out, _ = capsys.readouterr()
+    assert "no alerts for culmination, flip-due (as named in hold_kinds)" in out
+    assert "caution: the Sun hold silences flip-due" in out

@@ -104,7 +104,8 @@ def main(argv: list[str]) -> int:
         offload_planning=False,
         file_poll_seconds=0,
         anomaly_period_seconds=20.0,
-        clock_health_reader=lambda: __import__("siderod.common.model").common.model.ClockHealth(state="unknown"),
+        clock_health_reader=lambda: __import__(
+            "siderod.common.model").common.model.ClockHealth(state="unknown"),
     )
     print("child up", flush=True)
     asyncio.run(service.run(install_signal_handlers=True))

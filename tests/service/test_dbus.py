@@ -182,7 +182,8 @@ async def _service_with(tmp_path, channels, clock):
         lambda: config, clock, lambda on_due: ClockScheduler(on_due, clock), channels,
         ledger_path=tmp_path / "ledger.sqlite3", agenda_source=fakes.FixedAgendaSource([event]),
         control=False, env={}, offload_planning=False, file_poll_seconds=0,
-        clock_health_reader=lambda: __import__("siderod.common.model").common.model.ClockHealth(state="unknown"),
+        clock_health_reader=lambda: __import__(
+            "siderod.common.model").common.model.ClockHealth(state="unknown"),
     )
     return service, event
 
