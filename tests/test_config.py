@@ -399,3 +399,9 @@ def test_hold_kinds_names_target_kinds_only_and_needs_the_hold():
     assert error.key == "alerts.hold_kinds[1]" and "never held" in str(error)
     error = _one_error(SITE + '[alerts]\nhold_kinds = ["culmination"]\n')
     assert error.key == "alerts.hold_kinds" and "only together with hold_while_sun_above" in str(error)
+
+
+def test_a_latitude_whose_sign_and_letter_disagree_is_refused():
+    for text in ('"-32 22 40 N"', '"+32 22 40 S"'):
+        error = _one_error(SITE.replace('"+56 12 30"', text))
+        assert error.key == "site.latitude" and error.line == 3 and "disagree" in str(error)

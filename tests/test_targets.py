@@ -100,12 +100,12 @@ lat = "+0d28m"
 
 
 def test_duplicate_name_points_at_both():
-    (error,) = _errors('[[target]]\nname = "A"\nra = 1\ndec = 2\n[[target]]\nname = "A"\nra = 3\ndec = 4\n')
+    (error,) = _errors('[[target]]\nname = "A"\nra = 30\ndec = 2\n[[target]]\nname = "A"\nra = 45\ndec = 4\n')
     assert (error.key, error.line) == ("target[2].name", 6) and "target[1] at line 1" in error.expected
 
 
 def test_coordinates_of_another_frame_are_refused():
-    errors = _errors('[[target]]\nname = "A"\nframe = "galactic"\nra = 1\nb = 2\n')
+    errors = _errors('[[target]]\nname = "A"\nframe = "galactic"\nra = 30\nb = 2\n')
     keys = sorted(e.key for e in errors)
     assert keys == ["target[1].l", "target[1].ra"]
     ra_error = next(e for e in errors if e.key == "target[1].ra")
@@ -113,7 +113,7 @@ def test_coordinates_of_another_frame_are_refused():
 
 
 def test_unknown_frame_lists_choices():
-    (error,) = _errors('[[target]]\nname = "A"\nframe = "fk4"\nra = 1\ndec = 2\n')
+    (error,) = _errors('[[target]]\nname = "A"\nframe = "fk4"\nra = 30\ndec = 2\n')
     assert error.key == "target[1].frame" and '"icrs" | "galactic" | "ecliptic" | "hadec"' in error.expected
 
 
@@ -134,14 +134,14 @@ def test_hour_angle_range_is_in_hours():
 
 
 def test_per_target_alerts_must_be_a_table_or_false():
-    (error,) = _errors('[[target]]\nname = "A"\nra = 1\ndec = 2\nalerts = "yes"\n')
+    (error,) = _errors('[[target]]\nname = "A"\nra = 30\ndec = 2\nalerts = "yes"\n')
     assert error.key == "target[1].alerts" and "false" in error.expected
 
 
 def test_unknown_target_key_suggests():
-    errors = _errors('[[target]]\nname = "A"\nra = 1\ndecl = 2\n')
+    errors = _errors('[[target]]\nname = "A"\nra = 30\ndecl = 2\n')
     assert {e.key for e in errors} == {"target[1].decl", "target[1].dec"}  # unknown, and dec missing
-    errors = _errors('[[target]]\nname = "A"\nra = 1\ndec = 2\nparalax = 3\n')
+    errors = _errors('[[target]]\nname = "A"\nra = 30\ndec = 2\nparalax = 3\n')
     assert errors[0].key == "target[1].paralax" and 'did you mean "parallax"' in errors[0].expected
 
 
@@ -156,5 +156,18 @@ def test_csv_catalogue_with_and_without_header():
 
 
 def test_csv_errors_carry_their_line():
-    errors = _errors("A,1,2\nB,xx,2\nC,1\nA,3,4\n", parse_targets_csv)
+    errors = _errors("A,30,2\nB,xx,2\nC,1\nA,45,4\n", parse_targets_csv)
     assert [(e.line, e.key) for e in errors] == [(2, "ra"), (3, "row"), (4, "name")]
+
+
+def test_an_ambiguous_bare_ra_is_refused_with_file_line_key_and_both_readings():
+    (error,) = _errors('[[target]]\nname = "A"\nra = 5.58\ndec = 2\n')
+    assert str(error).startswith("t.toml:3: target[1].ra: expected a right ascension: a bare number below 24")
+    assert '"5.58h"' in str(error) and '"5.58d"' in str(error)
+    (error,) = _errors("A,5.58,2\n", parse_targets_csv)
+    assert error.line == 1 and error.key == "ra" and "hours or degrees" in str(error)
+
+
+def test_a_declination_whose_sign_and_letter_disagree_is_refused():
+    (error,) = _errors('[[target]]\nname = "A"\nra = "5h"\ndec = "-5 23 28 N"\n')
+    assert error.key == "target[1].dec" and "disagree" in str(error)

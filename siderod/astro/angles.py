@@ -55,7 +55,11 @@ def parse_angle_deg(text: str | float, *, kind: AngleKind) -> float:
     * ``"05:35:17.3"``, ``"5 35 17.3"``, ``"-5:23"`` (sexagesimal without a unit): hours for
       "ra" and "hour_angle", degrees for the others.
     * a bare decimal (``"83.822"`` or a number): degrees, except for "hour_angle" where it is hours.
-    * "lat" may end in N or S, "lon" in E or W (W and S are negative). Longitude is east positive.
+      For "ra" a bare number in (0, 24) is refused as ambiguous (hours or degrees?): write
+      ``"5.58h"`` or ``"5.58d"``.
+    * "lat" and "dec" may end in N or S, "lon" in E or W (W and S are negative). Longitude is
+      east positive. A "+" sign may go with N or E; any other sign with a letter is refused
+      (``"-32 22 40 N"`` disagrees with itself, ``"-32 S"`` could be a double negative).
 
     The sign applies to the whole value (``"-0 30"`` is -0.5). Minutes and seconds must be below 60;
     "dec"/"lat" must lie in [-90, 90], "ra" in [0, 360) degrees (24 h), "lon" in [-180, 360).
@@ -92,6 +96,8 @@ def parse_angle_deg(text: str | float, *, kind: AngleKind) -> float:
             value = math.inf
         if not math.isfinite(value):
             raise AngleParseError(repr(text)[:40], kind, "the number is not finite")
+        if kind == "ra":
+            _refuse_ambiguous_ra(repr(text), value)
         value_deg = value * 15.0 if kind == "hour_angle" else value
         shown = repr(text)
     _check_range(value_deg, shown, kind)
@@ -215,9 +221,10 @@ _KIND_NAMES = {
 }
 
 _ACCEPTED = {
-    "ra": '"05h35m17.3s", "5.5h", "05:35:17.3" or "5 35 17.3" (hours), "83.822" or "83°49\'19\\"" (degrees)',
+    "ra": '"05h35m17.3s", "5.5h", "05:35:17.3" or "5 35 17.3" (hours), "83.822", "5.58d" or "83°49\'19\\"" '
+          '(degrees; a bare number below 24 is refused as ambiguous)',
     "hour_angle": '"-01h30m", "-1:30:00", "-1.5" (hours), "-22.5°" (degrees)',
-    "dec": '"-05°23\'28\\"", "-5d23m28s", "-5:23:28", "-5 23 28", "-5.391" (degrees)',
+    "dec": '"-05°23\'28\\"", "-5d23m28s", "-5:23:28", "-5 23 28", "5 23 28 S", "-5.391" (degrees)',
     "lat": '"+56°12\'30\\"", "56:12:30", "56 12 30 N", "56.2083" (degrees, north positive)',
     "lon": '"-3°41\'15\\"", "-3:41:15", "3 41 15 W", "-3.6875" (degrees, east positive)',
     "angle": '"12°30\'", "12:30:00", "12 30", "12.5" (degrees)',
@@ -242,12 +249,24 @@ def _parse_text_deg(text: str, kind: str) -> float:
         raise AngleParseError(text, kind, "the text is empty")
     negative = False
     compass = body[-1].upper()
-    if kind == "lat" and compass in "NS" or kind == "lon" and compass in "EW":
+    letters = {"lat": "NS", "dec": "NS", "lon": "EW"}.get(kind, "")
+    if compass == "S" and body[-2:-1].isdigit() and _DMS_RE.match(body.lstrip("+-").lstrip()):
+        letters = ""  # the seconds of "56d12m30s", not south
+    if letters and compass in letters:
         body = body[:-1].rstrip()
         negative = compass in "SW"
+        if body[:1] in "+-":
+            sign = body[0]
+            if sign == "-" and negative:
+                # "-32 S" might mean south, or minus south (north): refuse rather than guess.
+                raise AngleParseError(text, kind, f'give either a sign or a compass letter, not both '
+                                      f'(write "{body[1:].lstrip()} {compass}")')
+            if sign == "-" or negative:
+                says = {"N": "north", "S": "south", "E": "east", "W": "west"}[compass]
+                other = {"N": "south", "S": "north", "E": "west", "W": "east"}[compass]
+                raise AngleParseError(text, kind, f'the sign "{sign}" and the letter {compass} disagree '
+                                      f'(the sign says {other}, the letter {says}); drop the sign')
     if body[:1] in "+-":
-        if negative and body[0] == "-":
-            raise AngleParseError(text, kind, "give either a sign or a compass letter, not both")
         negative = negative or body[0] == "-"
         body = body[1:].lstrip()
     hours_kind = kind in ("ra", "hour_angle")
@@ -263,10 +282,27 @@ def _parse_text_deg(text: str, kind: str) -> float:
         magnitude = 15.0 * value if hours_kind else value
     elif _DECIMAL_RE.match(body):
         value = float(body)
+        if kind == "ra":
+            _refuse_ambiguous_ra(text, -value if negative else value)
         magnitude = 15.0 * value if kind == "hour_angle" else value
     else:
         raise AngleParseError(text, kind, "unrecognised format")
     return -magnitude if negative else magnitude
+
+
+def _refuse_ambiguous_ra(text: str, value: float) -> None:
+    """A bare number in (0, 24) could be hours or degrees: refuse it, showing both readings.
+
+    Read silently as degrees, ``ra = 5.58`` (meant as hours) would put a target 5 h off and make
+    every alert for it wrong; above 24 only degrees make sense, and 0 is the same either way.
+    """
+    if 0.0 < value < 24.0:
+        shown = f"{value:g}"
+        as_hours = format_hms(value, decimals=0)
+        as_degrees = format_hms(value / 15.0, decimals=0)
+        raise AngleParseError(text, "ra", f"a bare number below 24 could be hours or degrees ({shown} h = "
+                              f"{as_hours}, {shown}° = {as_degrees}); write \"{shown}h\" for hours or "
+                              f"\"{shown}d\" for degrees")
 
 
 def _combine(text: str, kind: str, first: str, minutes: str | None, seconds: str | None) -> float:

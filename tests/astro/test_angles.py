@@ -145,3 +145,60 @@ def test_wraps_edge_values_and_shapes():
     out = wrap_deg_180(np.array([[190.0, -190.0], [180.0, -180.0]]))
     assert out.shape == (2, 2)
     np.testing.assert_allclose(out, [[-170.0, 170.0], [-180.0, -180.0]])
+
+
+@pytest.mark.parametrize(
+    ("text", "kind"),
+    [
+        ("-32 22 40 N", "lat"),  # the sign says south, the letter north
+        ("+32 22 40 S", "lat"),
+        ("-70 0 0 E", "lon"),
+        ("+70 0 0 W", "lon"),
+        ("-5 23 28 N", "dec"),
+        ("+5 23 28 S", "dec"),
+    ],
+)
+def test_a_sign_and_a_compass_letter_that_disagree_are_refused(text, kind):
+    with pytest.raises(AngleParseError, match="disagree") as info:
+        parse_angle_deg(text, kind=kind)
+    assert repr(text) in str(info.value)
+
+
+def test_compass_letters_that_agree_with_a_plus_sign_or_stand_alone():
+    assert parse_angle_deg("+32 22 40 N", kind="lat") == pytest.approx(32 + 22 / 60 + 40 / 3600)
+    assert parse_angle_deg("32 22 40 S", kind="lat") == pytest.approx(-(32 + 22 / 60 + 40 / 3600))
+    assert parse_angle_deg("5 23 28 S", kind="dec") == pytest.approx(-(5 + 23 / 60 + 28 / 3600))
+    assert parse_angle_deg("+5 23 28 N", kind="dec") == pytest.approx(5 + 23 / 60 + 28 / 3600)
+    with pytest.raises(AngleParseError, match="not both"):  # "-" and S: a double negative?
+        parse_angle_deg("-32 22 40 S", kind="lat")
+
+
+@pytest.mark.parametrize("value", [5.58, "5.58", 10, "23.9", 0.5])
+def test_a_bare_decimal_ra_below_24_is_ambiguous_and_refused(value):
+    with pytest.raises(AngleParseError) as info:
+        parse_angle_deg(value, kind="ra")
+    message = str(info.value)
+    assert "hours or degrees" in message
+    shown = f"{float(value):g}"
+    assert f'"{shown}h"' in message and f'"{shown}d"' in message
+
+
+def test_ra_readings_shown_for_an_ambiguous_number():
+    # 5.58 h = 5h34m48s; 5.58 deg = 0.372 h = 0h22m19.2s (by hand).
+    with pytest.raises(AngleParseError) as info:
+        parse_angle_deg(5.58, kind="ra")
+    assert "05h34m48s" in str(info.value) and "00h22m19s" in str(info.value)
+
+
+def test_unambiguous_ra_numbers_still_read_as_degrees():
+    assert parse_angle_deg(79.17233, kind="ra") == 79.17233
+    assert parse_angle_deg(0, kind="ra") == 0.0  # 0 h and 0 deg are the same direction
+    assert parse_angle_deg("5.58h", kind="ra") == pytest.approx(83.7)
+    assert parse_angle_deg("5.58d", kind="ra") == pytest.approx(5.58)
+
+
+def test_the_s_of_seconds_is_not_read_as_south():
+    # "56d12m30s" ends in the seconds unit; it was read as 56d12m30 S (south) before.
+    assert parse_angle_deg("56d12m30s", kind="lat") == pytest.approx(56.208333333333336)
+    assert parse_angle_deg("5d23m28s", kind="dec") == pytest.approx(5 + 23 / 60 + 28 / 3600)
+    assert parse_angle_deg("56d12m30s S", kind="lat") == pytest.approx(-56.208333333333336)
