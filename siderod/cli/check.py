@@ -70,6 +70,12 @@ def format_summary(config: Any, how_found: str) -> str:
         per_frame[target.frame.value] = per_frame.get(target.frame.value, 0) + 1
     frames = ", ".join(f"{count} {frame}" for frame, count in per_frame.items()) or "none"
     lines.append(f"targets: {len(config.targets)} ({frames}) from {len(config.target_files)} file(s)")
+    looked_up = [t for t in config.targets if t.catalogue_entry]
+    if looked_up:
+        lines.append(f"  places from the deep-sky catalogue: {len(looked_up)} ("
+                     + ", ".join(t.name if t.name == t.catalogue_entry else f"{t.name} = {t.catalogue_entry}"
+                                 for t in looked_up) + ")")
+        lines.append(f"    {_catalogue_edition()}")
     silent = [t.name for t in config.targets if not t.alerts_enabled]
     if silent:
         lines.append(f"  no alerts for: {', '.join(silent)}")
@@ -156,6 +162,10 @@ def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]
     lines.append(f"  leap seconds: built-in table known good {table.known_good_from_utc} .. "
                  f"{table.known_good_until_utc} ({table.source})")
     finals = find_iers_finals()
+    lines.append(f"  deep-sky catalogue: {_catalogue_edition()}")
+    from siderod.files.catalogue import CATALOGUE_CREDIT
+
+    lines.append(f"    credit: {CATALOGUE_CREDIT}")
     lines.append(f"  IERS finals2000A.all (astropy-iers-data): {finals or 'not installed'}")
     if config is not None:
         lines.append(f"  DUT1 in use: {config.time.dut1_seconds:+.4f} s ({config.time.dut1_source})")
@@ -191,6 +201,18 @@ def _service_state(socket_path: Any) -> str:
         return f"unknown ({exc})"
     started = result.get("started_utc", "?") if isinstance(result, dict) else "?"
     return f"running (started {started})"
+
+
+def _catalogue_edition() -> str:
+    """Which catalogue edition is in use and where it was found, or why there is none."""
+    from siderod.common.errors import CatalogueMissing
+    from siderod.files.catalogue import catalogue_info
+
+    try:
+        info = catalogue_info()
+    except CatalogueMissing as exc:
+        return f"not available: {exc}"
+    return f"OpenNGC {info.data_date or '(date unknown)'} from pyongc {info.package_version}: {info.path}"
 
 
 def _list(values: tuple[float, ...], unit: str) -> str:

@@ -17,6 +17,8 @@ __all__ = [
     "ServiceNotRunning",
     "ControlError",
     "InternalError",
+    "CatalogueMissing",
+    "CatalogueNameError",
     "AngleParseError",
     "LeapTableExpired",
     "NaiveDatetimeError",
@@ -102,3 +104,30 @@ class InternalError(SiderodError):
 
     def __init__(self, what: str) -> None:
         super().__init__(f"{what} -- this is a bug in siderod; please report it with the log")
+
+
+class CatalogueMissing(SiderodError):
+    """The deep-sky catalogue (the pyongc package's data) is not installed."""
+
+
+class CatalogueNameError(SiderodError):
+    """A name the deep-sky catalogue does not know, or knows for several objects.
+
+    Attributes:
+        name: the name as the user wrote it.
+        reason: "unknown" or "ambiguous".
+        suggestions: the closest matches, e.g. ("M 101 (NGC 5457)", ...).
+    """
+
+    def __init__(self, name: str, reason: str, suggestions: tuple[str, ...]) -> None:
+        self.name = name
+        self.reason = reason
+        self.suggestions = suggestions
+        super().__init__(self.describe())
+
+    def describe(self) -> str:
+        """One sentence: what was wrong and the closest matches."""
+        if self.reason == "ambiguous":
+            return f"{self.name!r} names several catalogue entries: {'; '.join(self.suggestions)}"
+        tail = f"; closest: {'; '.join(self.suggestions)}" if self.suggestions else ""
+        return f"{self.name!r} is not in the deep-sky catalogue{tail}"

@@ -161,6 +161,7 @@ class Target:
     alerts_enabled: bool = True
     source: str = ""  # "file:line" where the target was defined, for messages
     tags: tuple[str, ...] = ()
+    catalogue_entry: str = ""  # the deep-sky catalogue entry the place came from ("NGC 224"); "" if typed
 
 
 @dataclass(frozen=True, slots=True)

@@ -42,7 +42,7 @@ _COORD_KEYS = {"ra", "dec", "l", "b", "lon", "lat", "ha"}
 _MOTION_KEYS = ("pm_ra", "pm_dec", "parallax", "rv", "epoch")
 #: Every key a ``[[target]]`` table may hold.
 TARGET_KEYS = frozenset(
-    {"name", "frame", "equinox", "min_altitude", "alerts", "tags", *_COORD_KEYS, *_MOTION_KEYS}
+    {"name", "catalogue", "frame", "equinox", "min_altitude", "alerts", "tags", *_COORD_KEYS, *_MOTION_KEYS}
 )
 #: Lowest usable altitudes are accepted in this range (degrees): a little below the horizon
 #: (refraction and dip from a hill top) up to the zenith.
@@ -218,7 +218,16 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
     if "equinox" in entry and frame_text not in (None, "ecliptic"):
         problems.add(f"{prefix}.equinox", show_value(entry["equinox"]),
                      'no equinox: it is only used with frame = "ecliptic"')
-    coords = _coordinates(problems, entry, prefix, frame_text)
+    looked_up = None
+    if frame_text == "icrs" and not _COORD_KEYS & entry.keys() and ("catalogue" in entry or name is not None):
+        # No coordinates: the place comes from the deep-sky catalogue (coordinates given always win).
+        from siderod.files.catalogue import place_from_catalogue
+
+        looked_up = place_from_catalogue(problems, entry, prefix)
+        coords = None if looked_up is None else looked_up[:2]
+    else:
+        coords = _coordinates(problems, entry, prefix, frame_text)
+        read_string(problems, entry, "catalogue", prefix, default=None, what="a catalogue name in quotes")
     motion = _motion(problems, entry, prefix, frame_text)
     min_alt = read_angle(problems, entry, "min_altitude", prefix, kind="angle", default=None,
                          low=MIN_ALTITUDE_RANGE_DEG[0], high=MIN_ALTITUDE_RANGE_DEG[1],
@@ -233,7 +242,8 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
     return Target(
         name=name, frame=frame, lon_deg=lon_deg, lat_deg=lat_deg, ra_deg=ra_deg, dec_deg=dec_deg,
         ha_hours=ha_hours, min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled,
-        source=f"{problems.path}:{problems.line_of(prefix)}", tags=tags, **motion,
+        source=f"{problems.path}:{problems.line_of(prefix)}", tags=tags,
+        catalogue_entry=looked_up[2] if looked_up else "", **motion,
     )
 
 
