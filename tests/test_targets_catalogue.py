@@ -32,7 +32,7 @@ def test_catalogue_key_names_the_entry_of_a_nickname():
 
 
 def test_coordinates_in_the_file_win():
-    text = '[[target]]\nname = "M31"\ncatalogue = "M 42"\nra = 10\ndec = 20\n'
+    text = '[[target]]\nname = "M31"\ncatalogue = "M 42"\nra = "10d"\ndec = 20\n'
     (target,) = parse_targets_toml(text, "t.toml")
     assert (target.ra_deg, target.dec_deg, target.catalogue_entry) == (10.0, 20.0, "")
 
@@ -48,7 +48,7 @@ def test_unknown_and_ambiguous_names_are_located_errors():
 
 
 def test_a_half_given_place_is_not_filled_from_the_catalogue():
-    (error,) = _errors('[[target]]\nname = "M31"\nra = 10\n')
+    (error,) = _errors('[[target]]\nname = "M31"\nra = "10d"\n')
     assert error.key == "target[1].dec"
 
 

@@ -39,8 +39,9 @@ WATCHDOG_USEC = 2_000_000
 MUTE_SLACK_SECONDS = 60.0
 #: The hook: append argv[2] (the title) as one line to argv[1]. No braces: the argv is a template.
 HOOK_CODE = 'import sys; f = open(sys.argv[1], "a"); f.write(sys.argv[2].replace(chr(10), " ") + chr(10))'
-#: The first target of demo-targets.toml and the line that gives its RA.
-GOOD_RA_LINE = 'ra = "05h35m17.3s"'
+#: The first target of demo-targets.toml that gives its own RA (Betelgeuse, the sixth) and that line.
+GOOD_RA_LINE = 'ra = "05 55 10.31"'
+GOOD_RA_KEY = "target[6].ra"
 BAD_RA_LINE = 'ra = "5h61m"'  # 61 minutes: invalid
 PROMPT = "siderod-e2e$ "
 
@@ -211,7 +212,7 @@ def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanl
         bad_line = good_text.splitlines().index(GOOD_RA_LINE) + 1
         targets.write_text(good_text.replace(GOOD_RA_LINE, BAD_RA_LINE))
         error = wait_until(lambda: status_json(env)["config_error"], "config_error after the bad edit")
-        assert f"{targets}:{bad_line}: target[1].ra:" in error, error
+        assert f"{targets}:{bad_line}: {GOOD_RA_KEY}:" in error, error
         assert '"5h61m"' in error
         assert process.poll() is None
         wait_until(lambda: any("configuration not reloaded" in line for line in hook_lines(hook_file)),
