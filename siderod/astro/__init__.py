@@ -8,6 +8,7 @@ Layout, in the order a reader meets the ideas: ``constants``, ``angles``, ``leap
 ``timescales`` (time), ``sidereal`` (ERA, GMST, GAST, LST), ``nutation2000a`` (the full IAU 2000A
 series), ``precession`` (bias, precession and IAU 2000B nutation), ``places`` (apparent places,
 alt/az), ``refraction``, ``frames`` (galactic, ecliptic), ``sunmoon`` (low-precision Sun and Moon),
+``ephemeris`` (planets and the Moon from a JPL kernel passed in), ``orbits`` (comets and asteroids),
 and ``search``/``events`` (event finding).
 """
 
@@ -29,6 +30,21 @@ _EXPORTS: dict[str, str] = {
     "TT_MINUS_TAI_SECONDS": "constants",
     "UNIX_EPOCH_JD": "constants",
     "UNIX_EPOCH_MJD": "constants",
+    "BODY_NAMES": "ephemeris",
+    "Ephemeris": "ephemeris",
+    "EphemerisRangeError": "ephemeris",
+    "apparent_geocentric": "ephemeris",
+    "body_apparent_radec": "ephemeris",
+    "ephemeris_from_segments": "ephemeris",
+    "observe_apparent": "ephemeris",
+    "observe_body": "ephemeris",
+    "OrbitalElements": "orbits",
+    "asteroid_magnitude": "orbits",
+    "comet_magnitude": "orbits",
+    "elements_from_state": "orbits",
+    "heliocentric_position_au": "orbits",
+    "minor_body_apparent": "orbits",
+    "orbital_elements": "orbits",
     "ANGLE_KINDS": "angles",
     "AngleParseError": "angles",
     "format_clock_hms": "angles",
