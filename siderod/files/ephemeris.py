@@ -40,4 +40,7 @@ def load_ephemeris() -> Ephemeris:
         raise FileNotFoundError(f"the planetary ephemeris {path} is missing; reinstall siderod so that its "
                                 "dependency skyfield-data is installed (pip install skyfield-data)")
     kernel = SPK.open(str(path))
+    import atexit
+
+    atexit.register(kernel.close)  # kept open for the process's life; closed quietly at exit
     return ephemeris_from_segments(kernel.segments, KERNEL_NAME)
