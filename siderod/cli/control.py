@@ -192,7 +192,13 @@ def format_status(result: dict[str, Any]) -> str:
         state = "ok" if channel.healthy else "FAILING"
         extra = f": {channel.last_error}" if channel.last_error and not channel.healthy else ""
         last_ok = f" (last ok {_utc(channel.last_ok_utc)})" if channel.last_ok_utc else ""
-        lines.append(f"  {channel.name:<10} {state}{extra}{last_ok}")
+        debts = []
+        if channel.owed_count:
+            debts.append(f"{channel.owed_count} owed")
+        if channel.missed_count:
+            debts.append(f"{channel.missed_count} missed")
+        debt_text = f" [{', '.join(debts)}]" if debts else ""
+        lines.append(f"  {channel.name:<10} {state}{debt_text}{extra}{last_ok}")
     lines.append("muted:" + ("" if s.muted else " nothing"))
     for target, until in sorted(s.muted.items()):
         lines.append(f"  {target}: " + ("until unmuted" if until is None else f"until {_local(until, zone)}"))

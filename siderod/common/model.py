@@ -312,10 +312,14 @@ class ClockHealth:
 
 @dataclass(frozen=True, slots=True)
 class ChannelHealth:
+    """One channel as status shows it: working or not, and its open and missed debts."""
+
     name: str
     healthy: bool
     last_error: str = ""
     last_ok_utc: datetime | None = None
+    owed_count: int = 0  # alerts this channel still has to deliver (within their grace)
+    missed_count: int = 0  # alerts this channel gave up past grace (kept LEDGER_KEEP_DAYS)
 
 
 @dataclass(frozen=True, slots=True)

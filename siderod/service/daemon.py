@@ -1,12 +1,16 @@
 """The service: plan alerts on a rolling horizon, fire them on time, deliver each exactly once.
 
 Wiring, in the order ``run()`` does it: load the configuration, open the ledger, take the control
-socket (and with it the single-instance lock), re-send anything a previous run left half-sent,
-make the first plan, tell systemd READY=1, then run the supervised tasks in one TaskGroup:
+socket (and with it the single-instance lock), start one worker per channel and hand each what the
+ledger says it still owes, make the first plan, tell systemd READY=1, then run the supervised tasks
+in one TaskGroup:
 
-- the delivery worker (the only task that sends; alerts go out one after another, in due order),
+- the dispatcher (takes due keys from the scheduler, claims each alert in the ledger, which makes
+  every channel owe it, and hands it to every channel's worker; it never waits on a channel),
+- the channel workers (delivery.ChannelWorker: one task and one queue per channel, so a slow or
+  hung channel delays only itself; each retries and gives up on its own),
 - the clock watch (suspend or step -> wake the scheduler and re-plan),
-- the re-plan timer, the configuration file watch, the retry loop for failed channels,
+- the re-plan timer, the configuration file watch,
 - the systemd watchdog pinger and the clock-health check.
 
 An exception in any of them ends the TaskGroup and leaves ``run()``: the service stops loudly and
@@ -22,13 +26,14 @@ import logging
 import os
 import signal
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import replace
 from datetime import UTC, datetime, timedelta
 from typing import Any
 
 from siderod.common.clock import Clock
 from siderod.common.errors import ControlError, SiderodError
 from siderod.common.model import (
+    ChannelHealth,
     ClockHealth,
     Config,
     Delivery,
@@ -43,8 +48,9 @@ from siderod.service.delivery import (
     Channel,
     ChannelFailed,
     ChannelHealthBook,
+    ChannelWorker,
+    OwedDelivery,
     build_channels,
-    message_for_alert,
 )
 from siderod.service.ledger import Ledger, LedgerRow
 from siderod.service.scheduling import Scheduler, SchedulerFactory
@@ -69,13 +75,6 @@ STOP_WAIT_SECONDS = 15.0
 
 # agenda_source(config, start_utc, hours) -> Agenda (siderod.plan.agenda.compute_agenda by default)
 AgendaSource = Callable[[Config, datetime, float], Any]
-
-
-@dataclass(frozen=True, slots=True)
-class _Retry:
-    message: AlertMessage
-    channel: str
-    give_up_utc: datetime
 
 
 class _StopRequested(Exception):
@@ -125,6 +124,7 @@ class Service:
         boot_seconds: Callable[[], float] | None = None,
         clock_health_reader: Callable[[], ClockHealth] | None = None,
         sun_altitude_deg: Callable[[datetime], float] | None = None,
+        retry_seconds: float = RETRY_SECONDS,
     ) -> None:
         if ledger_path is None and paths is None:
             raise ValueError("Service needs paths (from siderod.files.paths.resolve_paths) or ledger_path")
@@ -143,6 +143,7 @@ class Service:
         self._boot_seconds = boot_seconds
         self._clock_health_reader = clock_health_reader
         self._sun_altitude_override = sun_altitude_deg
+        self._retry_seconds = retry_seconds
 
         self.config: Config | None = None
         self.config_error = ""
@@ -157,9 +158,10 @@ class Service:
         self._mutes: dict[str, datetime | None] = {}
         self._queue: asyncio.Queue[str] = asyncio.Queue()
         self._missed_titles: list[str] = []
-        self._retries: list[_Retry] = []
+        self._workers: dict[str, ChannelWorker] = {}
+        self._worker_tasks: dict[str, asyncio.Task[None]] = {}
+        self._worker_failed: asyncio.Future[None] | None = None
         self._plan_lock = asyncio.Lock()
-        self._sending = asyncio.Lock()
         self._stop = asyncio.Event()
         self._reload_asked = asyncio.Event()
         self._ready = asyncio.Event()
@@ -201,7 +203,6 @@ class Service:
             self._scheduler = self._make_scheduler()
             await self._scheduler.start()
             stack.push_async_callback(self._scheduler.shutdown)
-            stack.push_async_callback(self._close_channels)
             if install_signal_handlers:
                 loop.add_signal_handler(signal.SIGTERM, self.request_stop)
                 loop.add_signal_handler(signal.SIGINT, self.request_stop)
@@ -209,7 +210,9 @@ class Service:
                 stack.callback(_remove_signal_handlers, loop)
             self._read_clock_health()
             self._file_stamps = self._stat_files()
-            await self._recover_unfinished()
+            self._worker_failed = loop.create_future()
+            stack.push_async_callback(self._stop_workers)
+            self._start_workers()
             await self.replan("start")
             self._notify("READY=1\n" + self._status_line())
             self._ready.set()
@@ -223,7 +226,8 @@ class Service:
             )
             try:
                 async with asyncio.TaskGroup() as tasks:
-                    tasks.create_task(self._delivery_worker(), name="delivery")
+                    tasks.create_task(self._dispatcher(), name="dispatch")
+                    tasks.create_task(self._supervise_workers(), name="channel-workers")
                     watch = ClockWatch(
                         self._clock,
                         self._on_anomaly,
@@ -232,7 +236,6 @@ class Service:
                     )
                     tasks.create_task(watch.run(), name="clock-watch")
                     tasks.create_task(self._replan_timer(), name="replan-timer")
-                    tasks.create_task(self._retry_loop(), name="retry")
                     tasks.create_task(self._reload_listener(), name="reload")
                     tasks.create_task(self._clock_health_loop(), name="clock-health")
                     if self._file_poll_seconds > 0:
@@ -305,7 +308,7 @@ class Service:
             clock_health=self.clock_health,
             next_alerts=tuple(upcoming[:SNAPSHOT_ALERTS]),
             recent_deliveries=self._ledger.recent_deliveries(SNAPSHOT_ALERTS),
-            channels=self._health.snapshot([c.name for c in self._channels]),
+            channels=self._channel_snapshot(),
             muted=dict(self._mutes),
             config_error=self.config_error,
             missed_count=counts.get("missed", 0),
@@ -364,8 +367,9 @@ class Service:
         if self._sun_altitude_override is None:
             self._sun_altitude = _sun_altitude_function(new_config)
         if self._fixed_channels is None and (old_config is None or old_config.notify != new_config.notify):
-            await self._close_channels()
+            await self._stop_workers()
             self._channels = build_channels(new_config)
+            self._start_workers()
         log.info("configuration reloaded (%s) from %s", reason, new_config.path)
         await self.replan("reload")
         self._notify("READY=1\n" + self._status_line())
@@ -380,8 +384,9 @@ class Service:
             body=f"Sent at {_iso(now_utc)} through every channel. No action needed.",
             urgency=Urgency.NORMAL,
         )
-        results = await asyncio.gather(*(self._send_one(c, message) for c in self._channels))
-        return {c.name: r for c, r in zip(self._channels, results, strict=True)}
+        channels = list(self._channels)
+        results = await asyncio.gather(*(self._send_direct(c, message) for c in channels))
+        return {c.name: r for c, r in zip(channels, results, strict=True)}
 
     async def replan(self, reason: str) -> None:
         """Sweep missed alerts, compute the agenda for the horizon and hand the open alerts out."""
@@ -423,17 +428,17 @@ class Service:
     def _on_due(self, key: str) -> None:
         self._queue.put_nowait(key)
 
-    async def _delivery_worker(self) -> None:
+    async def _dispatcher(self) -> None:
+        """Turn due keys into debts: claim in the ledger, then hand to every channel's worker."""
         while True:
             key = await self._queue.get()
-            async with self._sending:
-                if key != _SUMMARY:
-                    await self._deliver(key)
-                if self._queue.empty() and self._missed_titles:
-                    await self._send_missed_summary()
+            if key != _SUMMARY:
+                self._deliver(key)
+            if self._queue.empty() and self._missed_titles:
+                self._send_missed_summary()
             self._notify(self._status_line())
 
-    async def _deliver(self, key: str) -> None:
+    def _deliver(self, key: str) -> None:
         assert self.config is not None and self._ledger is not None and self._scheduler is not None
         alert = self._plan.get(key)
         if alert is None:
@@ -451,52 +456,121 @@ class Service:
             del self._plan[key]
             self._note_missed(alert.title, alert.due_utc)
             return
-        if not self._ledger.claim(key, now_utc):
+        names = list(self._workers)
+        if not self._ledger.claim(key, now_utc, names):
             self._plan.pop(key, None)
             return
         del self._plan[key]
-        message = message_for_alert(alert, late_seconds, late_mark_seconds=LATE_MARK_SECONDS)
+        message = _message_from_row(_row_from_alert(alert))
         give_up_utc = alert.due_utc + timedelta(seconds=grace_seconds)
-        await self._send_claimed(message, frozenset(), give_up_utc)
-        self._ledger.finish(key, self._clock.now_utc(), late_seconds)
+        for name in names:
+            self._workers[name].put(OwedDelivery(message, alert.due_utc, give_up_utc))
 
-    async def _send_claimed(self, message: AlertMessage, done: frozenset[str], give_up_utc: datetime) -> None:
-        """Send one claimed alert on every channel that still owes it, all at once."""
-        sends = []
+    def _start_workers(self) -> None:
+        """One worker per channel, each given what the ledger says that channel still owes."""
+        assert self.config is not None and self._ledger is not None
+        now_utc = self._clock.now_utc()
         for channel in self._channels:
-            if channel.name in done:
+            worker = ChannelWorker(channel, self._clock, self, late_mark_seconds=LATE_MARK_SECONDS,
+                                   retry_seconds=self._retry_seconds)
+            self._workers[channel.name] = worker
+            task = asyncio.get_running_loop().create_task(worker.run(), name=f"channel-{channel.name}")
+            task.add_done_callback(self._worker_done)
+            self._worker_tasks[channel.name] = task
+        adopted = self._ledger.adopt_unowned(self._workers, now_utc)
+        if adopted:
+            log.info("%d half-sent alerts from an older ledger are now owed by each channel that lacks them",
+                     adopted)
+        grace = timedelta(minutes=self.config.alerts.grace_minutes)
+        resumed: dict[str, int] = {}
+        for owed in self._ledger.owed():
+            worker = self._workers.get(owed.channel)
+            if worker is None:
+                for key in self._ledger.drop_channel(owed.channel, now_utc):
+                    log.info("alert %s closed: channel %s is no longer configured", key, owed.channel)
                 continue
-            if not self._health.is_healthy(channel.name):
-                # Keep the worker quick while a channel is down: the retry loop probes it.
-                self._retries.append(_Retry(message, channel.name, give_up_utc))
-                continue
-            sends.append(channel)
-        results = await asyncio.gather(*(self._send_one(c, message) for c in sends))
-        for channel, result in zip(sends, results, strict=True):
-            if result != "ok":
-                self._retries.append(_Retry(message, channel.name, give_up_utc))
+            row = owed.alert
+            worker.put(OwedDelivery(_message_from_row(row), row.due_utc, row.due_utc + grace,
+                                    started_utc=owed.started_utc))
+            resumed[owed.channel] = resumed.get(owed.channel, 0) + 1
+        for name, n in sorted(resumed.items()):
+            log.warning("channel %s still owes %d alerts from before; sending them now (late-marked if late)",
+                        name, n)
 
-    async def _send_one(self, channel: Channel, message: AlertMessage) -> str:
-        """Send on one channel and write the outcome to the ledger at once. Never raises."""
+    async def _stop_workers(self) -> None:
+        """Let each worker finish the send in flight (bounded), then end the workers and channels."""
+        workers, self._workers = self._workers, {}
+        tasks, self._worker_tasks = self._worker_tasks, {}
+        idle = await asyncio.gather(*(w.stop(STOP_WAIT_SECONDS) for w in workers.values()))
+        for worker, ok in zip(workers.values(), idle, strict=True):
+            if not ok:
+                log.warning("stopping while channel %s is still sending; the next start finishes it",
+                            worker.name)
+        for task in tasks.values():
+            task.remove_done_callback(self._worker_done)
+            task.cancel()
+        await asyncio.gather(*tasks.values(), return_exceptions=True)
+        for worker in workers.values():
+            try:
+                await worker.channel.close()
+            except Exception:
+                log.debug("closing channel %s failed", worker.name, exc_info=True)
+
+    def _worker_done(self, task: asyncio.Task[None]) -> None:
+        if task.cancelled() or self._worker_failed is None or self._worker_failed.done():
+            return
+        exc = task.exception()
+        self._worker_failed.set_exception(exc or RuntimeError(f"{task.get_name()} ended"))
+
+    async def _supervise_workers(self) -> None:
+        """A worker that dies (a bug) ends the service loudly, like any other supervised task."""
+        assert self._worker_failed is not None
+        await self._worker_failed
+
+    # DeliverySink: what the workers report (delivery.DeliverySink) -------------------------------
+    def started(self, channel: str, item: OwedDelivery, now_utc: datetime) -> None:
+        assert self._ledger is not None
+        self._ledger.mark_started(item.message.key, channel, now_utc)
+
+    def delivered(self, channel: str, item: OwedDelivery, sent: AlertMessage, now_utc: datetime) -> None:
+        if not self._health.is_healthy(channel):
+            log.info("channel %s works again", channel)
+        self._health.ok(channel, now_utc)
+        self._record(sent, channel, now_utc, ok=True)
+
+    def failed(self, channel: str, item: OwedDelivery, sent: AlertMessage, now_utc: datetime,
+               error: str) -> None:
+        if self._health.failed(channel, error):
+            log.warning("channel %s failed; other channels still deliver; retrying every %g s: %s",
+                        channel, self._retry_seconds, error)
+        self._record(sent, channel, now_utc, ok=False, error=error)
+
+    def gave_up(self, channel: str, item: OwedDelivery, now_utc: datetime) -> None:
+        assert self._ledger is not None
+        message = item.message
+        error = self._health.last_error(channel)
+        log.warning("gave up sending %s on %s: past its grace (%s)", message.key, channel,
+                    error or "no reason given")
+        self._ledger.channel_missed(message.key, channel, now_utc, error)
+        self._note_missed(f"{message.title} (not delivered on {channel})", item.due_utc)
+        self._queue.put_nowait(_SUMMARY)
+
+    async def _send_direct(self, channel: Channel, message: AlertMessage) -> str:
+        """Send a test message straight on one channel (not queued); record it. Never raises."""
         try:
             await channel.send(message)
         except ChannelFailed as exc:
             error = str(exc)
-        except Exception as exc:  # a bug in one channel must not stop the others or the service
+        except Exception as exc:
             log.exception("channel %s failed unexpectedly", channel.name)
             error = f"unexpected {type(exc).__name__}: {exc}"
         else:
             now_utc = self._clock.now_utc()
-            if not self._health.is_healthy(channel.name):
-                log.info("channel %s works again", channel.name)
             self._health.ok(channel.name, now_utc)
             self._record(message, channel.name, now_utc, ok=True)
             return "ok"
         now_utc = self._clock.now_utc()
-        if self._health.failed(channel.name, error):
-            log.warning("channel %s failed; other channels still deliver; retrying every %g s: %s",
-                        channel.name, RETRY_SECONDS, error)
-        self._record(message, channel.name, now_utc, ok=False, error=error)
+        self.failed(channel.name, OwedDelivery(message, now_utc, ledger=False), message, now_utc, error)
         return error
 
     def _record(
@@ -515,65 +589,45 @@ class Service:
             )
         )
 
+    def _channel_snapshot(self) -> tuple[ChannelHealth, ...]:
+        assert self._ledger is not None
+        counts = self._ledger.channel_counts()
+        out = []
+        for health in self._health.snapshot([c.name for c in self._channels]):
+            worker = self._workers.get(health.name)
+            out.append(replace(health, owed_count=worker.owed_count if worker else 0,
+                               missed_count=counts.get(health.name, {}).get("missed", 0)))
+        return tuple(out)
+
     def _note_missed(self, title: str, due_utc: datetime) -> None:
         log.warning("alert missed (more than the grace period late): %s (due %s)", title, _iso(due_utc))
         self._missed_titles.append(f"{title} (due {due_utc.strftime('%H:%M')} UTC)")
 
-    async def _send_missed_summary(self) -> None:
+    def _send_missed_summary(self) -> None:
         assert self.config is not None
         titles, self._missed_titles = self._missed_titles, []
         title, body = format_missed_summary(titles, self.config.alerts.grace_minutes)
-        await self._send_service_message(title, body, Urgency.NORMAL)
+        self._put_service_message(title, body, Urgency.NORMAL)
 
     async def _send_service_message(self, title: str, body: str, urgency: Urgency) -> None:
-        """A message that is not a planned alert (missed summary, config error): healthy channels only."""
+        self._put_service_message(title, body, urgency)
+
+    def _put_service_message(self, title: str, body: str, urgency: Urgency) -> None:
+        """A message that is not a planned alert (missed summary, configuration error).
+
+        Queued on the workers of healthy channels and the log, tried once, not in the ledger.
+        """
+        now_utc = self._clock.now_utc()
         self._service_message_count += 1
         message = AlertMessage(
-            key=f"service|{_iso(self._clock.now_utc())}|{self._service_message_count}",
+            key=f"service|{_iso(now_utc)}|{self._service_message_count}",
             title=title,
             body=body,
             urgency=urgency,
         )
-        channels = [c for c in self._channels if self._health.is_healthy(c.name) or c.name == "log"]
-        await asyncio.gather(*(self._send_one(c, message) for c in channels))
-
-    async def _recover_unfinished(self) -> None:
-        """Finish what a previous run claimed but did not close (it was killed while sending)."""
-        assert self.config is not None and self._ledger is not None
-        now_utc = self._clock.now_utc()
-        grace = timedelta(minutes=self.config.alerts.grace_minutes)
-        for row in self._ledger.unfinished():
-            late_seconds = (now_utc - row.due_utc).total_seconds()
-            if now_utc - row.due_utc > grace:
-                self._ledger.mark_missed(row.key, now_utc)
-                self._note_missed(row.title, row.due_utc)
-                continue
-            done = self._ledger.channels_done(row.key)
-            log.warning("resending %s after a restart to channels that had not taken it (had: %s)",
-                        row.key, ", ".join(sorted(done)) or "none")
-            await self._send_claimed(_message_from_row(row, late_seconds), done, row.due_utc + grace)
-            self._ledger.finish(row.key, self._clock.now_utc(), late_seconds)
-
-    async def _retry_loop(self) -> None:
-        while True:
-            await self._clock.sleep(RETRY_SECONDS)
-            if not self._retries:
-                continue
-            async with self._sending:
-                pending, self._retries = self._retries, []
-                now_utc = self._clock.now_utc()
-                channels = {c.name: c for c in self._channels}
-                for retry in pending:
-                    channel = channels.get(retry.channel)
-                    if channel is None:
-                        continue  # removed by a reload
-                    if now_utc > retry.give_up_utc:
-                        log.warning(
-                            "gave up sending %s on %s: past its grace", retry.message.key, retry.channel
-                        )
-                        continue
-                    if await self._send_one(channel, retry.message) != "ok":
-                        self._retries.append(retry)
+        for name, worker in self._workers.items():
+            if self._health.is_healthy(name) or name == "log":
+                worker.put(OwedDelivery(message, now_utc, ledger=False))
 
     # -- watching time, files and health -----------------------------------------------------
     async def _on_anomaly(self, anomaly: ClockAnomaly) -> None:
@@ -651,12 +705,9 @@ class Service:
 
     async def _stopper(self) -> None:
         await self._stop.wait()
-        try:
-            # Let the alert being sent finish and reach the ledger: a cancelled send is the one
-            # thing that could make the next start resend it.
-            await asyncio.wait_for(self._sending.acquire(), STOP_WAIT_SECONDS)
-        except TimeoutError:
-            log.warning("stopping while an alert is still being sent; the next start finishes it")
+        # Let each send in flight finish and reach the ledger: a cancelled send is the one thing
+        # that could make the next start resend it. What is still owed stays in the ledger.
+        await self._stop_workers()
         raise _StopRequested
 
     # -- helpers -------------------------------------------------------------------------------
@@ -679,13 +730,6 @@ class Service:
         if self._offload_planning:
             return await asyncio.to_thread(source, config, start_utc, hours)
         return source(config, start_utc, hours)
-
-    async def _close_channels(self) -> None:
-        for channel in self._channels:
-            try:
-                await channel.close()
-            except Exception:
-                log.debug("closing channel %s failed", channel.name, exc_info=True)
 
     def _known_target(self, name: Any) -> str:
         assert self.config is not None
@@ -715,21 +759,34 @@ class Service:
 _SUMMARY = "\x00summary"  # queue marker: send the missed-alert summary once the queue drains
 
 
-def _message_from_row(row: LedgerRow, late_seconds: float) -> AlertMessage:
-    title, body = row.title, row.body
-    if late_seconds > LATE_MARK_SECONDS:
-        title = f"[late {late_seconds / 60:.0f} min] {title}"
+def _message_from_row(row: LedgerRow) -> AlertMessage:
+    """The unmarked message for a ledger row (the worker marks it late when it sends it)."""
     return AlertMessage(
         key=row.key,
-        title=title,
-        body=body,
+        title=row.title,
+        body=row.body,
         urgency=Urgency(row.urgency),
-        late_seconds=late_seconds,
         target=row.target,
         kind=row.kind,
         event_utc=row.event_utc,
         due_utc=row.due_utc,
         lead_minutes=row.lead_minutes,
+    )
+
+
+def _row_from_alert(alert: PlannedAlert) -> LedgerRow:
+    return LedgerRow(
+        key=alert.key,
+        target=alert.event.target or "",
+        kind=alert.event.kind.value,
+        event_utc=alert.event.time_utc,
+        lead_minutes=alert.lead_minutes,
+        due_utc=alert.due_utc,
+        title=alert.title,
+        body=alert.body,
+        urgency=alert.urgency.value,
+        state="sending",
+        late_seconds=None,
     )
 
 

@@ -1,20 +1,25 @@
 """Where alerts go: the desktop (D-Bus notifications), the log, and an optional command hook.
 
 A channel's ``send`` either returns (the alert was accepted) or raises ``ChannelFailed``; it
-never hangs, because every outside call is bounded by a timeout. Health bookkeeping lives in
-``ChannelHealthBook`` so that a failed channel shows in ``siderod status`` and is retried, while
-the other channels carry on.
+never hangs, because every outside call is bounded by a timeout. Each channel runs on its own
+``ChannelWorker`` (one asyncio task, one queue of what that channel owes, in due order), so a slow
+or hung channel delays only itself. The worker marks a message late at the moment it sends it,
+retries a failed channel every ``retry_seconds`` and gives an alert up once past its grace; every
+outcome goes to a ``DeliverySink`` (the service, which writes it to the ledger). Health
+bookkeeping lives in ``ChannelHealthBook`` so that a failed channel shows in ``siderod status``.
 """
 
 from __future__ import annotations
 
 import asyncio
+import heapq
+import itertools
 import logging
 import os
 import signal
 import string
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime
 from typing import Any, Protocol
 from zoneinfo import ZoneInfo
@@ -30,6 +35,10 @@ __all__ = [
     "LogChannel",
     "CommandChannel",
     "ChannelHealthBook",
+    "ChannelWorker",
+    "DeliverySink",
+    "OwedDelivery",
+    "mark_late",
     "build_channels",
     "COMMAND_PLACEHOLDERS",
 ]
@@ -60,29 +69,43 @@ class AlertMessage:
 
 def message_for_alert(alert: PlannedAlert, late_seconds: float, *, late_mark_seconds: float) -> AlertMessage:
     """The message for a planned alert; a late one says so in its title and body."""
-    title, body = alert.title, alert.body
-    if late_seconds > late_mark_seconds:
-        late_text = _format_late(late_seconds)
-        title = f"[late {late_text}] {title}"
-        body = (
-            f"Delivered {late_text} after it was due "
-            f"(the service was stopped, the computer slept, or its clock moved).\n{body}"
-        )
-    return AlertMessage(
+    message = AlertMessage(
         key=alert.key,
-        title=title,
-        body=body,
+        title=alert.title,
+        body=alert.body,
         urgency=alert.urgency,
-        late_seconds=late_seconds,
         target=alert.event.target or "",
         kind=alert.event.kind.value,
         event_utc=alert.event.time_utc,
         due_utc=alert.due_utc,
         lead_minutes=alert.lead_minutes,
     )
+    return mark_late(message, late_seconds, late_mark_seconds=late_mark_seconds)
+
+
+def mark_late(message: AlertMessage, late_seconds: float, *, late_mark_seconds: float) -> AlertMessage:
+    """``message`` (unmarked) as sent ``late_seconds`` after due: past the mark its title and body say so."""
+    title, body = message.title, message.body
+    if late_seconds > late_mark_seconds:
+        late_text = _format_late(late_seconds)
+        title = f"[late {late_text}] {title}"
+        body = (
+            f"Delivered {late_text} after it was due "
+            f"(the service was stopped, the computer slept, a channel failed, or the clock moved).\n{body}"
+        )
+    return replace(message, title=title, body=body, late_seconds=late_seconds)
 
 
 class Channel(Protocol):
+    """One way of telling the user. See DEVELOPERS.md, "Channels", for the full contract.
+
+    ``name`` is the channel's identity in the ledger (its debts are keyed by it) and in status;
+    keep it stable across restarts and unique in a service. ``send`` is called by the channel's
+    own worker only, one message at a time; it may be called again with the same ``key`` (a retry,
+    or a resend after a restart inside the crash window), so a channel that can should make a
+    repeat replace rather than duplicate (the desktop channel replaces by notification id).
+    """
+
     name: str
 
     async def send(self, message: AlertMessage) -> None:
@@ -279,12 +302,180 @@ class ChannelHealthBook:
         )
         return was_healthy
 
+    def last_error(self, name: str) -> str:
+        h = self._health.get(name)
+        return "" if h is None else h.last_error
+
     def is_healthy(self, name: str) -> bool:
         h = self._health.get(name)
         return h is None or h.healthy
 
     def snapshot(self, names: Sequence[str]) -> tuple[ChannelHealth, ...]:
         return tuple(self._health.get(n, ChannelHealth(name=n, healthy=True)) for n in names)
+
+
+# -- one worker per channel ------------------------------------------------------------------
+
+
+@dataclass(frozen=True, slots=True)
+class OwedDelivery:
+    """One message a channel owes.
+
+    ``message`` is unmarked; the worker marks it late when it sends it. An alert (``ledger`` True)
+    has a due time and a give-up time and is retried until it is delivered or past ``give_up_utc``;
+    a service message (missed summary, configuration error) is tried once and not in the ledger.
+    ``started_utc`` is when a previous run began sending it on this channel (None: never).
+    """
+
+    message: AlertMessage
+    due_utc: datetime
+    give_up_utc: datetime | None = None
+    ledger: bool = True
+    started_utc: datetime | None = None
+
+
+class DeliverySink(Protocol):
+    """Where a worker reports (the service, which writes to the ledger). Must not raise."""
+
+    def started(self, channel: str, item: OwedDelivery, now_utc: datetime) -> None:
+        """A try begins (written before the channel is called)."""
+
+    def delivered(self, channel: str, item: OwedDelivery, sent: AlertMessage, now_utc: datetime) -> None:
+        """The channel accepted ``sent`` (the late-marked message)."""
+
+    def failed(
+        self, channel: str, item: OwedDelivery, sent: AlertMessage, now_utc: datetime, error: str
+    ) -> None:
+        """The channel refused or timed out; the worker retries later."""
+
+    def gave_up(self, channel: str, item: OwedDelivery, now_utc: datetime) -> None:
+        """Past grace and still not delivered on this channel: a miss to record and report."""
+
+
+class ChannelWorker:
+    """The one task that sends on one channel: a queue in due order, retries, give-ups.
+
+    Args:
+        channel: the channel.
+        clock: the service's clock.
+        sink: gets every outcome.
+        late_mark_seconds: a message sent later than this after due carries the late mark.
+        retry_seconds: how long a failed channel waits before trying its first owed message again.
+    """
+
+    def __init__(self, channel: Channel, clock: Any, sink: DeliverySink, *, late_mark_seconds: float,
+                 retry_seconds: float) -> None:
+        self.channel = channel
+        self._clock = clock
+        self._sink = sink
+        self._late_mark_seconds = late_mark_seconds
+        self._retry_seconds = retry_seconds
+        self._heap: list[tuple[float, int, OwedDelivery]] = []
+        self._order = itertools.count()
+        self._keys: set[str] = set()
+        self._changed = asyncio.Event()
+        self._idle = asyncio.Event()
+        self._idle.set()
+        self._stopping = False
+
+    @property
+    def name(self) -> str:
+        return self.channel.name
+
+    @property
+    def owed_count(self) -> int:
+        """Alerts (not service messages) this channel still owes."""
+        return sum(1 for _, _, item in self._heap if item.ledger)
+
+    def put(self, item: OwedDelivery) -> None:
+        """Queue one message (a key already queued is ignored)."""
+        if item.ledger:
+            if item.message.key in self._keys:
+                return
+            self._keys.add(item.message.key)
+        heapq.heappush(self._heap, (item.due_utc.timestamp(), next(self._order), item))
+        self._changed.set()
+
+    async def run(self) -> None:
+        """Send until cancelled. Never raises for a channel's failure."""
+        while True:
+            if self._stopping or not self._heap:
+                self._changed.clear()
+                await self._changed.wait()
+                continue
+            now_utc = self._clock.now_utc()
+            expired_items = [e[2] for e in self._heap
+                             if e[2].give_up_utc is not None and now_utc > e[2].give_up_utc]
+            for expired in expired_items:
+                self._pop(expired)
+                self._sink.gave_up(self.name, expired, now_utc)
+            if not self._heap:
+                continue
+            item = self._heap[0][2]
+            if await self._try(item):
+                continue
+            if not item.ledger:
+                continue  # a service message is tried once (and already popped)
+            await self._wait(self._retry_seconds)
+
+    async def stop(self, timeout_seconds: float) -> bool:
+        """Start no new send; wait up to ``timeout_seconds`` for the one in flight. True if idle."""
+        self._stopping = True
+        self._changed.set()
+        try:
+            await asyncio.wait_for(self._idle.wait(), timeout_seconds)
+        except TimeoutError:
+            return False
+        return True
+
+    async def _try(self, item: OwedDelivery) -> bool:
+        now_utc = self._clock.now_utc()
+        late_seconds = max(0.0, (now_utc - item.due_utc).total_seconds()) if item.ledger else 0.0
+        sent = mark_late(item.message, late_seconds, late_mark_seconds=self._late_mark_seconds)
+        if item.ledger:
+            self._sink.started(self.name, item, now_utc)
+        self._idle.clear()
+        try:
+            await self.channel.send(sent)
+        except ChannelFailed as exc:
+            error = str(exc)
+        except Exception as exc:  # a bug in one channel must not stop it for good or the others
+            log.exception("channel %s failed unexpectedly", self.name)
+            error = f"unexpected {type(exc).__name__}: {exc}"
+        else:
+            self._pop(item)
+            self._sink.delivered(self.name, item, sent, self._clock.now_utc())
+            return True
+        finally:
+            self._idle.set()
+        if not item.ledger:
+            self._pop(item)
+        self._sink.failed(self.name, item, sent, self._clock.now_utc(), error)
+        return False
+
+    def _pop(self, item: OwedDelivery | None = None) -> None:
+        if item is None or (self._heap and self._heap[0][2] is item):
+            _, _, popped = heapq.heappop(self._heap)
+        else:  # re-queued ahead of it meanwhile: remove it where it is
+            index = next(i for i, entry in enumerate(self._heap) if entry[2] is item)
+            popped = self._heap.pop(index)[2]
+            heapq.heapify(self._heap)
+        if popped.ledger:
+            self._keys.discard(popped.message.key)
+
+    async def _wait(self, seconds: float) -> None:
+        """Sleep ``seconds`` (clock time); a stop request cuts it short."""
+        sleeper = asyncio.ensure_future(self._clock.sleep(seconds))
+        try:
+            while not sleeper.done() and not self._stopping:
+                self._changed.clear()
+                changed = asyncio.ensure_future(self._changed.wait())
+                await asyncio.wait({sleeper, changed}, return_when=asyncio.FIRST_COMPLETED)
+                changed.cancel()
+        finally:
+            if not sleeper.done():
+                sleeper.cancel()
+            await asyncio.gather(sleeper, return_exceptions=True)
 
 
 def build_channels(config: Config, env: Mapping[str, str] | None = None) -> list[Channel]:

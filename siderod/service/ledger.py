@@ -4,12 +4,15 @@ Each planned alert is one row keyed by ``planner.alert_key`` and moves through
 
     planned -> sending -> delivered          (or planned/sending -> missed)
 
-``claim`` is the single atomic step from planned to sending; each channel's success is written
-the moment that channel returns, before the next one is tried, and ``finish`` closes the row.
-After a crash, rows left in ``sending`` name exactly the channels that still owe the alert, so a
-restart re-sends only to those. The one window in which a repeat can happen is therefore
-between a channel accepting an alert and the ledger commit that follows it (one small SQLite
-write, typically well under a millisecond, see readme-service.md).
+``claim`` is the single atomic step from planned to sending, and in the same transaction it writes
+one ``owed`` row per channel: the channel's debt for that alert. Each channel settles its own
+debt: ``record_delivery`` of a success marks it ``delivered`` in the same commit that logs the
+delivery; a channel that gives up past grace marks it ``missed`` (``channel_missed``); a channel
+removed from the configuration marks it ``dropped``. The alert row closes only when no channel owes
+it any more (``delivered`` if any channel delivered, else ``missed``). After a crash or a stop,
+``owed()`` lists exactly what each channel still owes, so a restart resumes it. The one window in
+which a repeat can happen is between a channel accepting an alert and the ledger commit that
+follows it (one small SQLite write, typically well under a millisecond).
 
 Commits use ``synchronous=NORMAL``: in WAL mode that survives a killed process (the data is in the
 kernel's page cache) but not a power cut, which may lose the last few transactions.
@@ -27,14 +30,14 @@ from pathlib import Path
 from siderod.common.model import Delivery, PlannedAlert
 from siderod.plan.planner import SKY_TARGET_NAME
 
-__all__ = ["Ledger", "LedgerRow", "EVENT_MATCH_SECONDS"]
+__all__ = ["Ledger", "LedgerRow", "OwedRow", "EVENT_MATCH_SECONDS"]
 
 # Two agenda runs can place the same event a little apart (a different search window); rows
 # whose target, kind and lead agree and whose event times are this close are the same alert.
 # 5 s is far below the spacing of two real events of one kind for one target (hours).
 EVENT_MATCH_SECONDS = 5.0
 
-_SCHEMA_VERSION = "1"
+_SCHEMA_VERSION = "2"
 
 
 @dataclass(frozen=True, slots=True)
@@ -52,6 +55,19 @@ class LedgerRow:
     urgency: str
     state: str  # "planned" | "sending" | "delivered" | "missed"
     late_seconds: float | None
+
+
+@dataclass(frozen=True, slots=True)
+class OwedRow:
+    """One channel's open debt: ``alert`` (state ``sending``) not yet delivered on ``channel``.
+
+    ``started_utc`` is when the channel last began trying (None: never tried), so a restart can
+    tell a hook that may already have run from one that never did.
+    """
+
+    alert: LedgerRow
+    channel: str
+    started_utc: datetime | None
 
 
 class Ledger:
@@ -148,43 +164,139 @@ class Ledger:
         return rows
 
     # -- delivering ------------------------------------------------------------------------
-    def claim(self, key: str, now_utc: datetime) -> bool:
-        """Atomically move a planned alert to ``sending``. True for exactly one caller, ever."""
-        cursor = self._db.execute(
-            "UPDATE alerts SET state = 'sending', updated_unix = ? WHERE key = ? AND state = 'planned'",
-            (now_utc.timestamp(), key),
-        )
-        return cursor.rowcount == 1
+    def claim(self, key: str, now_utc: datetime, channels: Iterable[str] = ()) -> bool:
+        """Atomically move a planned alert to ``sending`` and make each channel owe it.
 
-    def record_delivery(self, delivery: Delivery) -> None:
-        """Write one channel's outcome at once (the commit that closes the repeat window)."""
-        self._db.execute(
-            "INSERT INTO deliveries(key, channel, delivered_unix, late_seconds, ok, error, title)"
-            " VALUES (?,?,?,?,?,?,?)",
-            (
-                delivery.key,
-                delivery.channel,
-                delivery.delivered_utc.timestamp(),
-                delivery.late_seconds,
-                1 if delivery.ok else 0,
-                delivery.error,
-                delivery.title,
-            ),
+        True for exactly one caller, ever; only that caller's ``channels`` owe the alert.
+        """
+        now_unix = now_utc.timestamp()
+        with self._transaction():
+            cursor = self._db.execute(
+                "UPDATE alerts SET state = 'sending', updated_unix = ? WHERE key = ? AND state = 'planned'",
+                (now_unix, key),
+            )
+            if cursor.rowcount != 1:
+                return False
+            self._db.executemany(
+                "INSERT OR IGNORE INTO owed(key, channel, state, updated_unix) VALUES (?, ?, 'owed', ?)",
+                [(key, channel, now_unix) for channel in channels],
+            )
+        return True
+
+    def record_delivery(self, delivery: Delivery) -> bool:
+        """Write one channel's outcome at once (the commit that closes the repeat window).
+
+        A success also settles that channel's debt, in the same transaction.
+
+        Returns:
+            True if this closed the alert (no channel owes it any more).
+        """
+        with self._transaction():
+            self._db.execute(
+                "INSERT INTO deliveries(key, channel, delivered_unix, late_seconds, ok, error, title)"
+                " VALUES (?,?,?,?,?,?,?)",
+                (
+                    delivery.key,
+                    delivery.channel,
+                    delivery.delivered_utc.timestamp(),
+                    delivery.late_seconds,
+                    1 if delivery.ok else 0,
+                    delivery.error,
+                    delivery.title,
+                ),
+            )
+            if not delivery.ok:
+                self._db.execute(
+                    "UPDATE owed SET error = ? WHERE key = ? AND channel = ? AND state = 'owed'",
+                    (delivery.error, delivery.key, delivery.channel),
+                )
+                return False
+            return self._settle(delivery.key, delivery.channel, "delivered", delivery.delivered_utc,
+                                late_seconds=delivery.late_seconds)
+
+    def channel_missed(self, key: str, channel: str, now_utc: datetime, reason: str = "") -> bool:
+        """``channel`` gave up on ``key`` (past its grace): a recorded miss. True if the alert closed."""
+        with self._transaction():
+            if reason:
+                self._db.execute("UPDATE owed SET error = ? WHERE key = ? AND channel = ? AND state = 'owed'",
+                                 (reason, key, channel))
+            return self._settle(key, channel, "missed", now_utc)
+
+    def drop_channel(self, channel: str, now_utc: datetime) -> tuple[str, ...]:
+        """Cancel what a channel removed from the configuration still owes; return the keys closed."""
+        with self._transaction():
+            keys = [r[0] for r in self._db.execute(
+                "SELECT key FROM owed WHERE channel = ? AND state = 'owed'", (channel,))]
+            closed = tuple(k for k in keys if self._settle(k, channel, "dropped", now_utc))
+        return closed
+
+    def mark_started(self, key: str, channel: str, now_utc: datetime) -> None:
+        """Note that ``channel`` begins a try for ``key`` (a hook can be told it may be a repeat)."""
+        self._db.execute("UPDATE owed SET started_unix = ? WHERE key = ? AND channel = ? AND state = 'owed'",
+                         (now_utc.timestamp(), key, channel))
+
+    def owed(self) -> tuple[OwedRow, ...]:
+        """Every open debt, in due order: what each channel still has to deliver."""
+        cursor = self._db.execute(
+            "SELECT a.key, a.target, a.kind, a.event_unix, a.lead_minutes, a.due_unix, a.title, a.body,"
+            " a.urgency, a.state, a.late_seconds, o.channel, o.started_unix FROM owed o"
+            " JOIN alerts a ON a.key = o.key WHERE o.state = 'owed' ORDER BY a.due_unix, a.key, o.channel"
         )
+        return tuple(
+            OwedRow(alert=_row(r[:11]), channel=r[11],
+                    started_utc=None if r[12] is None else datetime.fromtimestamp(r[12], UTC))
+            for r in cursor.fetchall()
+        )
+
+    def adopt_unowned(self, channels: Iterable[str], now_utc: datetime) -> int:
+        """Give a debt row to claimed alerts that have none (a ledger written before debts existed).
+
+        Each channel that has no successful delivery of such an alert owes it. Returns the alerts.
+        """
+        names = tuple(channels)
+        with self._transaction():
+            keys = [r[0] for r in self._db.execute(
+                "SELECT key FROM alerts WHERE state = 'sending'"
+                " AND NOT EXISTS (SELECT 1 FROM owed WHERE owed.key = alerts.key)")]
+            for key in keys:
+                done = {r[0] for r in self._db.execute(
+                    "SELECT channel FROM deliveries WHERE key = ? AND ok = 1", (key,))}
+                owing = [c for c in names if c not in done]
+                self._db.executemany(
+                    "INSERT OR IGNORE INTO owed(key, channel, state, updated_unix) VALUES (?, ?, 'owed', ?)",
+                    [(key, c, now_utc.timestamp()) for c in owing],
+                )
+                if not owing:  # every channel had it: the old run died just before closing the row
+                    self._db.execute("UPDATE alerts SET state = 'delivered', updated_unix = ? WHERE key = ?",
+                                     (now_utc.timestamp(), key))
+        return len(keys)
+
+    def channel_counts(self) -> dict[str, dict[str, int]]:
+        """Per channel, the number of debts in each state (owed, delivered, missed, dropped)."""
+        out: dict[str, dict[str, int]] = {}
+        for channel, state, n in self._db.execute("SELECT channel, state, COUNT(*) FROM owed GROUP BY 1, 2"):
+            out.setdefault(channel, {})[state] = n
+        return out
 
     def finish(self, key: str, now_utc: datetime, late_seconds: float) -> None:
-        """Close a claimed alert as delivered."""
+        """Close a claimed alert as delivered, whatever its channels still owe (tests, old callers)."""
         self._db.execute(
             "UPDATE alerts SET state = 'delivered', updated_unix = ?, late_seconds = ? WHERE key = ?",
             (now_utc.timestamp(), late_seconds, key),
         )
 
     def mark_missed(self, key: str, now_utc: datetime) -> None:
-        self._db.execute(
-            "UPDATE alerts SET state = 'missed', updated_unix = ?"
-            " WHERE key = ? AND state IN ('planned', 'sending')",
-            (now_utc.timestamp(), key),
-        )
+        """Close an alert as missed on every channel (past grace before any channel took it)."""
+        with self._transaction():
+            self._db.execute(
+                "UPDATE alerts SET state = 'missed', updated_unix = ?"
+                " WHERE key = ? AND state IN ('planned', 'sending')",
+                (now_utc.timestamp(), key),
+            )
+            self._db.execute(
+                "UPDATE owed SET state = 'missed', updated_unix = ? WHERE key = ? AND state = 'owed'",
+                (now_utc.timestamp(), key),
+            )
 
     def channels_done(self, key: str) -> frozenset[str]:
         """The channels that have accepted this alert."""
@@ -237,6 +349,7 @@ class Ledger:
                 "DELETE FROM alerts WHERE state IN ('delivered', 'missed') AND due_unix < ?", (cutoff,)
             ).rowcount
             self._db.execute("DELETE FROM deliveries WHERE delivered_unix < ?", (cutoff,))
+            self._db.execute("DELETE FROM owed WHERE state != 'owed' AND updated_unix < ?", (cutoff,))
         return n
 
     # -- mutes (kept here so a restart remembers them) -------------------------------------
@@ -261,6 +374,31 @@ class Ledger:
     def _transaction(self) -> _Transaction:
         return _Transaction(self._db)
 
+    def _settle(self, key: str, channel: str, state: str, now_utc: datetime,
+                late_seconds: float | None = None) -> bool:
+        """Close one channel's debt (inside a transaction); True if that closed the alert."""
+        self._db.execute(
+            "UPDATE owed SET state = ?, updated_unix = ?, late_seconds = ? WHERE key = ? AND channel = ?"
+            " AND state = 'owed'",
+            (state, now_utc.timestamp(), late_seconds, key, channel),
+        )
+        return self._close_if_settled(key, now_utc)
+
+    def _close_if_settled(self, key: str, now_utc: datetime) -> bool:
+        debts, open_debts, delivered, late = self._db.execute(
+            "SELECT COUNT(*), SUM(state = 'owed'), SUM(state = 'delivered'), MAX(late_seconds) FROM owed"
+            " WHERE key = ?",
+            (key,),
+        ).fetchone()
+        if open_debts or not debts:  # still owed, or claimed without debts (left to adopt_unowned)
+            return False
+        cursor = self._db.execute(
+            "UPDATE alerts SET state = ?, updated_unix = ?, late_seconds = ?"
+            " WHERE key = ? AND state = 'sending'",
+            ("delivered" if delivered else "missed", now_utc.timestamp(), late, key),
+        )
+        return cursor.rowcount == 1
+
     def _settled_match(self, alert: PlannedAlert) -> str | None:
         t = alert.event.time_utc.timestamp()
         row = self._db.execute(
@@ -283,22 +421,23 @@ class Ledger:
             " late_seconds FROM alerts " + where,
             params,
         )
-        return tuple(
-            LedgerRow(
-                key=r[0],
-                target=r[1],
-                kind=r[2],
-                event_utc=datetime.fromtimestamp(r[3], UTC),
-                lead_minutes=r[4],
-                due_utc=datetime.fromtimestamp(r[5], UTC),
-                title=r[6],
-                body=r[7],
-                urgency=r[8],
-                state=r[9],
-                late_seconds=r[10],
-            )
-            for r in cursor.fetchall()
-        )
+        return tuple(_row(r) for r in cursor.fetchall())
+
+
+def _row(r: tuple) -> LedgerRow:
+    return LedgerRow(
+        key=r[0],
+        target=r[1],
+        kind=r[2],
+        event_utc=datetime.fromtimestamp(r[3], UTC),
+        lead_minutes=r[4],
+        due_utc=datetime.fromtimestamp(r[5], UTC),
+        title=r[6],
+        body=r[7],
+        urgency=r[8],
+        state=r[9],
+        late_seconds=r[10],
+    )
 
 
 class _Transaction:
@@ -343,4 +482,15 @@ CREATE TABLE IF NOT EXISTS deliveries (
 );
 CREATE INDEX IF NOT EXISTS deliveries_key ON deliveries(key, channel);
 CREATE TABLE IF NOT EXISTS mutes (target TEXT PRIMARY KEY, until_unix REAL);
+CREATE TABLE IF NOT EXISTS owed (
+    key TEXT NOT NULL,
+    channel TEXT NOT NULL,
+    state TEXT NOT NULL CHECK (state IN ('owed', 'delivered', 'missed', 'dropped')),
+    updated_unix REAL NOT NULL,
+    started_unix REAL,
+    late_seconds REAL,
+    error TEXT NOT NULL DEFAULT '',
+    PRIMARY KEY (key, channel)
+);
+CREATE INDEX IF NOT EXISTS owed_state ON owed(state, channel);
 """

@@ -259,6 +259,8 @@ def snapshot_to_json(snapshot: ServiceSnapshot) -> dict[str, Any]:
                 "healthy": c.healthy,
                 "last_error": c.last_error,
                 "last_ok_utc": _iso_or_none(c.last_ok_utc),
+                "owed_count": c.owed_count,
+                "missed_count": c.missed_count,
             }
             for c in snapshot.channels
         ],
@@ -302,6 +304,8 @@ def snapshot_from_json(data: Any) -> ServiceSnapshot:
                 healthy=c.flag("healthy"),
                 last_error=c.text("last_error", default=""),
                 last_ok_utc=c.time("last_ok_utc", optional=True),
+                owed_count=c.integer("owed_count", default=0),
+                missed_count=c.integer("missed_count", default=0),
             )
             for c in r.objs("channels")
         ),
