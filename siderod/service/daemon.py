@@ -68,6 +68,9 @@ RETRY_SECONDS = 30.0
 CLOCK_HEALTH_SECONDS = 600.0
 # Upcoming alerts listed in a snapshot, and recent deliveries.
 SNAPSHOT_ALERTS = 20
+# A reload or control request that sends a service message waits at most this long (real seconds)
+# for the channels to take it; each channel's own send is bounded anyway, this only caps the reply.
+SERVICE_MESSAGE_WAIT_SECONDS = 5.0
 # Closed ledger rows older than this are forgotten at start-up.
 LEDGER_KEEP_DAYS = 14
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
@@ -610,9 +613,12 @@ class Service:
         self._put_service_message(title, body, Urgency.NORMAL)
 
     async def _send_service_message(self, title: str, body: str, urgency: Urgency) -> None:
-        self._put_service_message(title, body, urgency)
+        """Queue a service message and wait (bounded) until each channel has tried it once."""
+        tries = self._put_service_message(title, body, urgency)
+        if tries:
+            await asyncio.wait(tries, timeout=SERVICE_MESSAGE_WAIT_SECONDS)
 
-    def _put_service_message(self, title: str, body: str, urgency: Urgency) -> None:
+    def _put_service_message(self, title: str, body: str, urgency: Urgency) -> list[asyncio.Future[bool]]:
         """A message that is not a planned alert (missed summary, configuration error).
 
         Queued on the workers of healthy channels and the log, tried once, not in the ledger.
@@ -625,9 +631,14 @@ class Service:
             body=body,
             urgency=urgency,
         )
+        tries: list[asyncio.Future[bool]] = []
+        loop = asyncio.get_running_loop()
         for name, worker in self._workers.items():
             if self._health.is_healthy(name) or name == "log":
-                worker.put(OwedDelivery(message, now_utc, ledger=False))
+                tried: asyncio.Future[bool] = loop.create_future()
+                worker.put(OwedDelivery(message, now_utc, ledger=False, tried=tried))
+                tries.append(tried)
+        return tries
 
     # -- watching time, files and health -----------------------------------------------------
     async def _on_anomaly(self, anomaly: ClockAnomaly) -> None:

@@ -19,7 +19,7 @@ import os
 import signal
 import string
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from datetime import datetime
 from typing import Any, Protocol
 from zoneinfo import ZoneInfo
@@ -332,6 +332,7 @@ class OwedDelivery:
     give_up_utc: datetime | None = None
     ledger: bool = True
     started_utc: datetime | None = None
+    tried: asyncio.Future[bool] | None = field(default=None, compare=False)  # set after the first try
 
 
 class DeliverySink(Protocol):
@@ -435,6 +436,7 @@ class ChannelWorker:
         if item.ledger:
             self._sink.started(self.name, item, now_utc)
         self._idle.clear()
+        error: str | None = None
         try:
             await self.channel.send(sent)
         except ChannelFailed as exc:
@@ -448,6 +450,8 @@ class ChannelWorker:
             return True
         finally:
             self._idle.set()
+            if item.tried is not None and not item.tried.done():
+                item.tried.set_result(error is None)
         if not item.ledger:
             self._pop(item)
         self._sink.failed(self.name, item, sent, self._clock.now_utc(), error)
