@@ -38,6 +38,7 @@ _VERB_MODULES = (
     "siderod.cli.watch",
     "siderod.cli.run",
     "siderod.cli.control",
+    "siderod.cli.seek",
     "siderod.cli.check",
     "siderod.cli.unit",
 )
