@@ -270,8 +270,8 @@ def test_missing_target_file():
 
 
 def test_wrong_target_file_suffix():
-    error = _one_error(SITE + '[targets]\nfiles = ["list.txt"]\n')
-    assert ".toml or .csv" in error.expected
+    error = _one_error(SITE + '[targets]\nfiles = ["list.xlsx"]\n')
+    assert ".toml or .csv" in error.expected and "MPC one-line orbital elements" in error.expected
 
 
 def test_duplicate_names_across_target_files():

@@ -7,9 +7,10 @@ spellings used in configuration files and in ``--json`` output.
 from __future__ import annotations
 
 import enum
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from datetime import datetime
+from typing import Any
 
 __all__ = [
     "EventKind",
@@ -17,6 +18,7 @@ __all__ = [
     "MountKind",
     "Urgency",
     "Site",
+    "OrbitSpec",
     "Target",
     "EventSettings",
     "Mount",
@@ -101,6 +103,8 @@ class Frame(enum.Enum):
     ECLIPTIC = "ecliptic"  # lon/lat, mean ecliptic and equinox of J2000
     ECLIPTIC_OF_DATE = "ecliptic-of-date"  # lon/lat, mean ecliptic and equinox of date
     HADEC = "hadec"  # a fixed hour angle and declination (a parked transit instrument)
+    BODY = "body"  # a planet, Pluto or the Moon, placed from the JPL ephemeris
+    ORBIT = "orbit"  # a comet or asteroid, placed from osculating orbital elements
 
 
 class MountKind(enum.Enum):
@@ -136,12 +140,35 @@ class Site:
 
 
 @dataclass(frozen=True, slots=True)
+class OrbitSpec:
+    """Osculating heliocentric elements of a comet or asteroid (mean ecliptic and equinox of J2000).
+
+    ``kind`` is "comet" (magnitude ``H + 5 log delta + 2.5 K log r``) or "asteroid" (IAU H, G);
+    ``slope`` is K for a comet and G for an asteroid; ``h_mag``/``slope`` None when not given.
+    """
+
+    q_au: float
+    e: float
+    i_deg: float
+    node_deg: float
+    peri_deg: float
+    tp_jd_tt: float
+    epoch_jd_tt: float
+    kind: str = "asteroid"
+    h_mag: float | None = None
+    slope: float | None = None
+    designation: str = ""
+
+
+@dataclass(frozen=True, slots=True)
 class Target:
     """One watched target, as the user gave it, plus its ICRS place when it has one.
 
     ``ra_deg``/``dec_deg`` are ICRS at ``epoch_jd_tt`` (computed at load time for galactic and
     J2000 ecliptic input; for ecliptic-of-date they are filled per window by the agenda).
     For ``Frame.HADEC`` targets ``ra_deg`` is None and ``ha_hours``/``dec_deg`` hold the pointing.
+    Moving targets have no fixed place (``ra_deg`` None, ``dec_deg`` 0): ``Frame.BODY`` names the
+    ephemeris ``body`` ("jupiter", "moon"), ``Frame.ORBIT`` carries its elements in ``orbit``.
     """
 
     name: str
@@ -162,6 +189,8 @@ class Target:
     source: str = ""  # "file:line" where the target was defined, for messages
     tags: tuple[str, ...] = ()
     catalogue_entry: str = ""  # the deep-sky catalogue entry the place came from ("NGC 224"); "" if typed
+    body: str | None = None  # Frame.BODY: "mercury" ... "pluto", "moon"
+    orbit: OrbitSpec | None = None  # Frame.ORBIT: the elements
 
 
 @dataclass(frozen=True, slots=True)
@@ -202,6 +231,9 @@ class AlertRules:
     grace_minutes: float = 10.0  # deliver late within this; beyond it the alert is "missed"
     horizon_hours: float = 36.0  # how far ahead the service plans
     replan_minutes: float = 60.0
+    # Target alerts are held while the target is closer than this to the Sun (degrees): never point
+    # unfiltered optics at or near the Sun.
+    sun_separation_min_deg: float = 10.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -246,6 +278,10 @@ class Config:
     notify: NotifySettings = field(default_factory=NotifySettings)
     view: ViewSettings = field(default_factory=ViewSettings)
     is_demo: bool = False
+    max_element_age_days: float = 60.0  # [targets] max_element_age: older orbital elements get a warning
+    # Opens the planetary ephemeris on first call (set by the loader at the edge, cached per
+    # process); the pure layers call it only when a target moves. None: no ephemeris available.
+    ephemeris: Callable[[], Any] | None = field(default=None, compare=False, repr=False)
 
 
 @dataclass(frozen=True, slots=True)

@@ -31,6 +31,8 @@ from siderod.common.model import (
     Urgency,
     ViewSettings,
 )
+from siderod.files.elements import DEFAULT_MAX_ELEMENT_AGE_DAYS, collect_elements_file
+from siderod.files.ephemeris import load_ephemeris
 from siderod.files.paths import resolve_paths
 from siderod.files.targets import (
     MIN_ALTITUDE_RANGE_DEG,
@@ -87,10 +89,11 @@ MAX_ABS_DUT1_SECONDS = 0.9
 _SECTIONS = ("site", "time", "targets", "events", "mount", "alerts", "notify", "view")
 _SITE_KEYS = ("name", "latitude", "longitude", "elevation", "timezone", "pressure", "temperature", "horizon")
 _TIME_KEYS = ("dut1", "iers_file", "clock_tolerance")
-_TARGETS_KEYS = ("files",)
+_TARGETS_KEYS = ("files", "max_element_age")
 _EVENTS_KEYS = ("min_altitude", "altitudes", "hour_angles", "refraction", "window_hours")
 _MOUNT_KEYS = ("kind", "flip_after", "limit_after")
-_ALERTS_KEYS = ("grace", "horizon_hours", "replan", "hold_while_sun_above", "hold_kinds", "lead", "urgency")
+_ALERTS_KEYS = ("grace", "horizon_hours", "replan", "hold_while_sun_above", "hold_kinds", "lead", "urgency",
+                "sun_separation_min")
 _NOTIFY_KEYS = ("desktop", "command", "command_timeout")
 _VIEW_KEYS = ("refresh_hz",)
 _IERS_FINALS_NAME = "finals2000A.all"
@@ -191,6 +194,10 @@ def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None
     notify = _notify(problems, data)
     view = _view(problems, data)
     target_files, target_problems, targets = _targets(problems, data, base_dir, read_file)
+    targets_table = data.get("targets", {}) if isinstance(data.get("targets"), dict) else {}
+    max_age = read_number(problems, targets_table, "max_element_age", "targets",
+                          default=DEFAULT_MAX_ELEMENT_AGE_DAYS, low=1.0, high=36525.0,
+                          what="a number of days (orbital elements older than this get a warning)")
 
     errors = problems.sorted_errors()
     for file_problems in target_problems:
@@ -199,7 +206,9 @@ def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None
         raise ConfigErrors(errors)
     assert site is not None and time_settings is not None
     return Config(path=path, site=site, targets=targets, target_files=target_files, time=time_settings,
-                  events=events, mount=mount, alerts=alerts, notify=notify, view=view)
+                  events=events, mount=mount, alerts=alerts, notify=notify, view=view,
+                  max_element_age_days=max_age if max_age is not None else DEFAULT_MAX_ELEMENT_AGE_DAYS,
+                  ephemeris=load_ephemeris)
 
 
 def find_iers_finals() -> Path | None:
@@ -435,6 +444,8 @@ def _alerts(problems: Problems, data: Mapping[str, Any]) -> AlertRules:
     hold = read_angle(problems, table, "hold_while_sun_above", "alerts", kind="angle", default=None,
                       low=-90.0, high=90.0, what="a Sun altitude")
     hold_kinds = _hold_kinds(problems, table["hold_kinds"]) if "hold_kinds" in table else None
+    sun_min = read_angle(problems, table, "sun_separation_min", "alerts", kind="angle", default=10.0,
+                         low=0.0, high=180.0, what="an angle from the Sun below which target alerts are held")
     if hold_kinds is not None and hold is None:
         problems.add("alerts.hold_kinds", show_value(table["hold_kinds"]),
                      "hold_kinds only together with hold_while_sun_above (it names the kinds that hold "
@@ -461,6 +472,7 @@ def _alerts(problems: Problems, data: Mapping[str, Any]) -> AlertRules:
         grace_minutes=grace if grace is not None else 10.0,
         horizon_hours=horizon if horizon is not None else 36.0,
         replan_minutes=replan if replan is not None else 60.0,
+        sun_separation_min_deg=sun_min if sun_min is not None else 10.0,
     )
 
 
@@ -541,8 +553,9 @@ def _targets(problems: Problems, data: Mapping[str, Any], base_dir: str,
         key = f"targets.files[{index}]"
         path = os.path.join(base_dir, os.path.expanduser(name))
         suffix = os.path.splitext(name)[1].lower()
-        if suffix not in (".toml", ".csv"):
-            problems.add(key, show_value(name), "a target file ending in .toml or .csv")
+        if suffix not in (".toml", ".csv", ".txt", ".dat"):
+            problems.add(key, show_value(name), "a target file ending in .toml or .csv, or a file of MPC "
+                         "one-line orbital elements ending in .txt or .dat")
             continue
         try:
             text = read_file(path)
@@ -552,7 +565,8 @@ def _targets(problems: Problems, data: Mapping[str, Any], base_dir: str,
             continue
         resolved.append(path)
         file_problems = Problems(path, text)
-        collect = collect_targets_csv if suffix == ".csv" else collect_targets_toml
+        collect = {".csv": collect_targets_csv, ".txt": collect_elements_file,
+                   ".dat": collect_elements_file}.get(suffix, collect_targets_toml)
         parsed = collect(file_problems)
         per_file.append(file_problems)
         for target in parsed:

@@ -13,6 +13,7 @@ from collections.abc import Iterator, Mapping
 from typing import Any
 
 from siderod.common.model import EventKind, Frame, Target
+from siderod.files.elements import ORBIT_KEYS, orbit_target, read_orbit_entry
 from siderod.files.tomlpos import (
     Problems,
     parse_angle_value,
@@ -42,8 +43,11 @@ _COORD_KEYS = {"ra", "dec", "l", "b", "lon", "lat", "ha"}
 _MOTION_KEYS = ("pm_ra", "pm_dec", "parallax", "rv", "epoch")
 #: Every key a ``[[target]]`` table may hold.
 TARGET_KEYS = frozenset(
-    {"name", "catalogue", "frame", "equinox", "min_altitude", "alerts", "tags", *_COORD_KEYS, *_MOTION_KEYS}
+    {"name", "catalogue", "frame", "equinox", "min_altitude", "alerts", "tags", *_COORD_KEYS, *_MOTION_KEYS,
+     "body", "elements", *ORBIT_KEYS}
 )
+#: ``body`` values: the planets, Pluto and the Moon (the Sun is never a target).
+BODY_CHOICES = ("mercury", "venus", "mars", "jupiter", "saturn", "uranus", "neptune", "pluto", "moon")
 #: Lowest usable altitudes are accepted in this range (degrees): a little below the horizon
 #: (refraction and dip from a hill top) up to the zenith.
 MIN_ALTITUDE_RANGE_DEG = (-5.0, 90.0)
@@ -212,6 +216,8 @@ def _csv_rows(problems: Problems) -> Iterator[tuple[int, list[str]]]:
 def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Target | None:
     before = len(problems.errors)
     problems.unknown_keys(entry, TARGET_KEYS, prefix)
+    if "body" in entry or "elements" in entry or (ORBIT_KEYS - {"epoch"}) & entry.keys():
+        return _moving_target(problems, entry, prefix, before)
     name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
     frame_text = read_choice(problems, entry, "frame", prefix, tuple(FRAME_CHOICES), default="icrs")
     equinox = read_choice(problems, entry, "equinox", prefix, ("J2000", "date"), default="J2000")
@@ -245,6 +251,42 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
         source=f"{problems.path}:{problems.line_of(prefix)}", tags=tags,
         catalogue_entry=looked_up[2] if looked_up else "", **motion,
     )
+
+
+def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, before: int) -> Target | None:
+    """A planet, the Moon (``body``) or a comet/asteroid (``elements`` or explicit element keys)."""
+    name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
+    for key in sorted((_COORD_KEYS | {"frame", "equinox", "catalogue", "pm_ra", "pm_dec", "parallax", "rv"})
+                      & entry.keys()):
+        problems.add(f"{prefix}.{key}", show_value(entry[key]),
+                     "no fixed coordinates for a moving target: its place comes from the ephemeris "
+                     "(body) or its orbital elements")
+    body = orbit = None
+    if "body" in entry:
+        body = read_choice(problems, entry, "body", prefix, BODY_CHOICES)
+        if entry["body"] == "sun":
+            problems.errors.pop()
+            problems.add(f"{prefix}.body", show_value(entry["body"]),
+                         "a planet, Pluto or the Moon: the Sun is never a target (never point unfiltered "
+                         "optics at or near the Sun)")
+        for key in sorted((ORBIT_KEYS | {"elements"}) & entry.keys()):
+            problems.add(f"{prefix}.{key}", show_value(entry[key]),
+                         "either body or orbital elements, not both")
+    else:
+        orbit = read_orbit_entry(problems, entry, prefix)
+    min_alt = read_angle(problems, entry, "min_altitude", prefix, kind="angle", default=None,
+                         low=MIN_ALTITUDE_RANGE_DEG[0], high=MIN_ALTITUDE_RANGE_DEG[1],
+                         what="a lowest usable altitude")
+    alerts_enabled, lead = _alerts(problems, entry, prefix)
+    tags = _tags(problems, entry, prefix)
+    if len(problems.errors) > before or name is None or (body is None and orbit is None):
+        return None
+    source = f"{problems.path}:{problems.line_of(prefix)}"
+    extra = dict(min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled, tags=tags)
+    if orbit is not None:
+        return orbit_target(name, orbit, source=source, **extra)
+    return Target(name=name, frame=Frame.BODY, lon_deg=0.0, lat_deg=0.0, ra_deg=None, dec_deg=0.0,
+                  source=source, body=body, **extra)
 
 
 def _coordinates(problems: Problems, entry: dict[str, Any], prefix: str,

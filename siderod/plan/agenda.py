@@ -33,6 +33,7 @@ from siderod.astro.sidereal import FastSidereal
 from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun
 from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
+from siderod.plan.moving import is_moving
 from siderod.plan.positions import observer_for, target_stars
 
 __all__ = [
@@ -118,7 +119,8 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
     if wanted & {EventKind.MOONRISE, EventKind.MOONSET}:
         records.extend(_moon_events(observer, start_unix, end_unix, dut1, wanted))
 
-    sky = [t for t in chosen if t.frame is not Frame.HADEC]
+    # Moving targets get their events once the engine follows a changing place (next change).
+    sky = [t for t in chosen if t.frame is not Frame.HADEC and not is_moving(t)]
     fixed = [t for t in chosen if t.frame is Frame.HADEC]
     classification: dict[str, str] = {}
     dark: dict[str, tuple[tuple[datetime, datetime], ...]] = {}

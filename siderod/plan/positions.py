@@ -13,12 +13,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from siderod.astro.angles import wrap_hours_12, wrap_hours_24
+from siderod.astro.ephemeris import observe_apparent
 from siderod.astro.places import Observer, Stars, hadec_to_altaz, observe, stars_from_radec
 from siderod.astro.refraction import airmass, refraction_from_true_deg
 from siderod.astro.sidereal import last_hours, lmst_hours
 from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun, sun_separation_deg
 from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Frame, Site, Target
+from siderod.plan.moving import ephemeris_for, is_moving, moving_places
 
 __all__ = [
     "TWILIGHT_LIMITS_DEG",
@@ -61,6 +63,9 @@ class SkyState:
         sun_alt_deg, sun_az_deg, moon_alt_deg, moon_az_deg: topocentric, refracted like targets.
         moon_illuminated_fraction: 0 (new) to 1 (full).
         twilight: "day", "civil", "nautical", "astronomical" or "night" (see TWILIGHT_LIMITS_DEG).
+        magnitude: estimated visual magnitude of comets and asteroids with H given; nan otherwise.
+        distance_au: geocentric distance of moving targets, au; nan for fixed ones.
+        elements_epoch_jd_tt: osculation epoch of orbital-element targets (JD, TT); nan otherwise.
     """
 
     names: tuple[str, ...]
@@ -85,6 +90,9 @@ class SkyState:
     moon_az_deg: float
     moon_illuminated_fraction: float
     twilight: str
+    magnitude: np.ndarray | None = None
+    distance_au: np.ndarray | None = None
+    elements_epoch_jd_tt: np.ndarray | None = None
 
 
 def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target] | None = None) -> SkyState:
@@ -112,7 +120,22 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
     last = float(last_hours(instants, site.longitude_deg))
 
     fixed = np.array([t.frame is Frame.HADEC for t in targets], dtype=bool)
-    sky_index = np.flatnonzero(~fixed)
+    moving = np.array([is_moving(t) for t in targets], dtype=bool)
+    sky_index = np.flatnonzero(~fixed & ~moving)
+    magnitude = np.full(n, np.nan)
+    distance_au = np.full(n, np.nan)
+    moving_index = np.flatnonzero(moving)
+    if moving_index.size:
+        ephemeris = ephemeris_for(config)
+        places = moving_places(ephemeris, [targets[i] for i in moving_index],
+                               instants_from_unix(np.array([[float(unix_seconds)]]),
+                                                  dut1_seconds=config.time.dut1_seconds))
+        seen = observe_apparent(places.unit_xyz[:, 0, :], places.distance_au[0], instants, observer)
+        ra[moving_index], dec[moving_index] = seen.ra_hours, seen.dec_deg
+        ha[moving_index], alt[moving_index], az[moving_index] = seen.ha_hours, seen.alt_deg, seen.az_deg
+        rising[moving_index] = np.asarray(seen.ha_hours) < 0.0
+        magnitude[moving_index] = places.magnitude[0]
+        distance_au[moving_index] = places.distance_au[0]
     if sky_index.size:
         jd_tt = float(instants.tt_whole) + float(instants.tt_frac)
         stars = target_stars([targets[i] for i in sky_index], jd_tt)
@@ -164,6 +187,10 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
         moon_az_deg=float(moon.az_deg),
         moon_illuminated_fraction=float(moon_illuminated_fraction(instants)),
         twilight=twilight_name(sun_geometric),
+        magnitude=magnitude,
+        distance_au=distance_au,
+        elements_epoch_jd_tt=np.array(
+            [t.orbit.epoch_jd_tt if t.orbit is not None else np.nan for t in targets], dtype=float),
     )
 
 
