@@ -39,6 +39,7 @@ _VERB_MODULES = (
     "siderod.cli.run",
     "siderod.cli.control",
     "siderod.cli.seek",
+    "siderod.cli.shortlist",
     "siderod.cli.check",
     "siderod.cli.unit",
 )
