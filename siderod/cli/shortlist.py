@@ -233,7 +233,10 @@ def _candidates(args: argparse.Namespace, config: Any, window: Any) -> dict[str,
             "stars": stars_from_radec(arrays.ra_deg[index], arrays.dec_deg[index]),
             "min_altitude_deg": np.full(index.size, config.events.min_altitude_deg),
         }
-    targets = [t for t in config.targets if t.frame is not Frame.HADEC]  # fixed pointings do not move
+    # Fixed hour-angle pointings have no place on the sky to rank, and bodies and orbits move;
+    # only targets with a catalogue place are ranked (the README says so).
+    fixed_places = (Frame.ICRS, Frame.GALACTIC, Frame.ECLIPTIC, Frame.ECLIPTIC_OF_DATE)
+    targets = [t for t in config.targets if t.frame in fixed_places]
     mid_jd_tt = 2440587.5 + 0.5 * (window.start_unix + window.end_unix) / 86400.0 + 69.184 / 86400.0
     global_min = config.events.min_altitude_deg
     return {
