@@ -59,6 +59,7 @@ __all__ = [
     "body_apparent_radec",
     "body_position_fn",
     "ephemeris_from_segments",
+    "geocentric_site_rho",
     "observe_apparent",
     "observe_body",
 ]
@@ -320,6 +321,12 @@ def observe_body(ephemeris: Ephemeris, body: str, instants: Instants, observer: 
     """
     xyz, distance = apparent_geocentric(ephemeris, body_position_fn(ephemeris, body), instants)
     return observe_apparent(xyz, distance, instants, observer)
+
+
+def geocentric_site_rho(observer: Observer) -> tuple[float, float]:
+    """``(rho cos phi', rho sin phi')``: the site's geocentric vector in Earth equatorial radii (WGS84)."""
+    rho_cos, rho_sin = _geocentric_site(observer)
+    return float(rho_cos), float(rho_sin)
 
 
 def _radec(xyz):

@@ -54,6 +54,8 @@ __all__ = [
     "SUN_THRESHOLDS_DEG",
     "TargetTrack",
     "build_track",
+    "moving_sample_unix",
+    "track_from_apparent",
     "find_altitude_events",
     "find_body_crossings",
     "find_hour_angle_events",
@@ -92,6 +94,12 @@ _MOON_RADIUS_KM = 1737.4  # IAU mean radius
 _GRID_STEP_SUN_SECONDS = 1200.0  # Sun/Moon altitude grid: extrema are >= ~10 h apart
 _CANDIDATE_MARGIN_SECONDS = 120.0
 _GRID_CHUNK_ROWS = 4096  # rows per grid pass: keeps scratch arrays in cache (perf-baselines.md)
+#: A moving body's crossing counts as found when the last refinement step is below this (hours;
+#: 3.6 ms of time): a Dec that turns back before the crossing leaves the steps large instead.
+_CONVERGED_HOURS = 1e-6
+#: Earth's equatorial radius in au (6378.137 km / 149 597 870.7 km): the parallax of a body at
+#: distance D au is asin(_EARTH_RADIUS_AU / D).
+_EARTH_RADIUS_AU = 6378.137 / 149597870.7
 
 
 # ---------------------------------------------------------------------------------------------
@@ -109,15 +117,62 @@ class TargetTrack:
         ra_coeffs_hours: (D+1, N) polynomial coefficients in ``tau``, highest power first; RA is
             unwrapped (continuous), so values may leave [0, 24).
         dec_coeffs_deg: (D+1, N) same for declination.
+        parallax_coeffs: (D+1, N) same for the horizontal parallax ``sin(pi) = a_earth / distance``
+            (dimensionless), or None for targets too far for parallax to matter (stars). With it,
+            every position the finders use is topocentric: the site's geocentric vector
+            ``site_rho`` is taken off in the hour-angle frame (the Moon's parallax is about 1 deg).
+        site_rho: ``(rho cos phi', rho sin phi')`` of the site, Earth equatorial radii (WGS84).
+        refine_steps: refinement steps the finders take per event; 1 is ample for targets that
+            drift slowly against the stars, a target as fast as the Moon (0.5 deg an hour) needs a
+            few more, since each step removes all but a few percent of the error left.
     """
 
     mid_unix: float
     half_seconds: float
     ra_coeffs_hours: np.ndarray
     dec_coeffs_deg: np.ndarray
+    parallax_coeffs: np.ndarray | None = None
+    site_rho: tuple[float, float] = (0.0, 0.0)
+    refine_steps: int = 1
 
     def __len__(self) -> int:
         return self.ra_coeffs_hours.shape[1]
+
+    def ra_rate_at(self, unix_seconds, index=None):
+        """d(RA)/dt, hours per second (the derivative of the fitted polynomial)."""
+        tau = (np.asarray(unix_seconds, dtype=float) - self.mid_unix) * (1.0 / self.half_seconds)
+        ra_c = self.ra_coeffs_hours if index is None else np.take(self.ra_coeffs_hours, index, axis=1)
+        degree = ra_c.shape[0] - 1
+        rate = np.zeros(np.broadcast_shapes(np.shape(tau), ra_c.shape[1:]))
+        for k in range(degree):
+            rate = rate * tau + (degree - k) * ra_c[k]
+        return rate * (1.0 / self.half_seconds)
+
+    def hadec_at(self, unix_seconds, last_hours_at, index=None):
+        """Topocentric hour angle (hours, [-12, 12)) and declination (degrees) at the site.
+
+        Without parallax coefficients the geocentric place stands (stars); with them the site's
+        geocentric vector is subtracted (topocentric parallax).
+        """
+        t = np.asarray(unix_seconds, dtype=float)
+        ra, dec = self.radec_at(t, index)
+        ha = _wrap12(last_hours_at(t) - ra)
+        if self.parallax_coeffs is None:
+            return ha, dec
+        p = _poly(self.parallax_coeffs, (t - self.mid_unix) * (1.0 / self.half_seconds), index)
+        return _topocentric(ha, dec, p, self.site_rho)
+
+    def dec_range(self, index=None):
+        """(low, high) declination over the fitted span, degrees, widened by the parallax."""
+        taus = np.linspace(-1.0, 1.0, 9)[:, None]
+        t = self.mid_unix + self.half_seconds * taus
+        _, dec = self.radec_at(t, index)
+        low, high = dec.min(axis=0), dec.max(axis=0)
+        if self.parallax_coeffs is not None:
+            p = np.abs(_poly(self.parallax_coeffs, taus, index)).max(axis=0)
+            reach = np.degrees(np.arcsin(np.clip(p * 1.001, 0.0, 1.0))) + 1e-6
+            low, high = low - reach, high + reach
+        return low, high
 
     def ra_at(self, unix_seconds, index=None):
         """Apparent RA of date only (hours, unwrapped); arguments as for :meth:`radec_at`."""
@@ -183,6 +238,51 @@ def track_from_samples(sample_unix, ra_hours, dec_deg) -> TargetTrack:
     ra_c = np.linalg.solve(vander, ra)
     dec_c = np.linalg.solve(vander, dec)
     return TargetTrack(mid, half, ra_c, dec_c)
+
+
+def track_from_apparent(sample_unix, unit_xyz, distance_au, site_rho, *,
+                        refine_steps: int = 5) -> TargetTrack:
+    """Fit a topocentric-capable :class:`TargetTrack` through geocentric apparent places of moving bodies.
+
+    Args:
+        sample_unix (array_like): S instants, POSIX seconds, increasing.
+        unit_xyz (array_like): (3, S, N) geocentric apparent directions of date.
+        distance_au (array_like): (S, N) geocentric distances, au.
+        site_rho: ``(rho cos phi', rho sin phi')`` of the site, Earth equatorial radii.
+        refine_steps: see :class:`TargetTrack`.
+
+    Returns:
+        TargetTrack: with parallax coefficients.
+    """
+    x, y, z = np.asarray(unit_xyz, dtype=float)
+    ra = np.arctan2(y, x) / HOUR_RAD
+    dec = np.arctan2(z, np.hypot(x, y)) / DEG_RAD
+    # Unwrap RA step by step: a fast body may move far in RA near a pole across the window.
+    ra = ra[0] + np.cumsum(np.concatenate([np.zeros_like(ra[:1]), _wrap12(np.diff(ra, axis=0))]), axis=0)
+    parallax = _EARTH_RADIUS_AU / np.asarray(distance_au, dtype=float)
+    base = track_from_samples(sample_unix, ra, dec)
+    t = np.atleast_1d(np.asarray(sample_unix, dtype=float))
+    tau = (t - base.mid_unix) / base.half_seconds
+    coeffs = np.linalg.solve(np.vander(tau, t.size), parallax)
+    return TargetTrack(base.mid_unix, base.half_seconds, base.ra_coeffs_hours, base.dec_coeffs_deg,
+                       parallax_coeffs=coeffs, site_rho=(float(site_rho[0]), float(site_rho[1])),
+                       refine_steps=refine_steps)
+
+
+def moving_sample_unix(start_unix: float, end_unix: float):
+    """Instants at which to evaluate moving bodies for :func:`track_from_apparent` (POSIX seconds).
+
+    Chebyshev nodes with the ends on the span (padded by two minutes): 5 nodes plus 3 per day,
+    which fits the Moon's geocentric place over a day to a few milliarcseconds (its longitude's
+    largest periodic terms have periods of two weeks and longer).
+    """
+    lo = float(start_unix) - _CANDIDATE_MARGIN_SECONDS
+    hi = float(end_unix) + _CANDIDATE_MARGIN_SECONDS
+    n = 5 + 3 * int(math.ceil((hi - lo) / 86400.0))
+    k = np.arange(n)
+    nodes = np.cos((2 * k + 1) * np.pi / (2 * n))[::-1]
+    nodes = nodes / nodes[-1]
+    return 0.5 * (lo + hi) + 0.5 * (hi - lo) * nodes
 
 
 def build_track(stars: Stars, start_unix: float, end_unix: float, *, dut1_seconds: float = 0.0,
@@ -309,8 +409,7 @@ def target_altaz(track: TargetTrack, last_hours_at, latitude_deg: float, unix_se
         hour angle in [-12, 12).
     """
     t = np.asarray(unix_seconds, dtype=float)
-    ra, dec = track.radec_at(t, index)
-    ha = _wrap12(last_hours_at(t) - ra)
+    ha, dec = track.hadec_at(t, last_hours_at, index)
     alt, az = _altaz(ha, dec, latitude_deg)
     return alt, az, ha
 
@@ -358,12 +457,21 @@ def find_hour_angle_events(track: TargetTrack, last_hours_at, ha_hours, start_un
         ha = ha + k_hours * np.cos(ha * HOUR_RAD) / np.maximum(np.cos(dec0 * DEG_RAD), 1e-3)
     cand_idx, cand_t, cand_mark = _mark_candidates(track, last_hours_at, idx, ha, mark, start_unix, end_unix)
     target = ha[cand_mark]
-    # One step suffices: the first guess is off only by the target's own drift in RA over the
-    # window (<= ~1 s of time near the pole), and a step leaves that error times ~1e-5.
-    ra = track.ra_at(cand_t, cand_idx)
-    cand_t = cand_t + _wrap12(target - (last_hours_at(cand_t) - ra)) * (1.0 / SIDEREAL_RATE_HOURS_PER_SECOND)
+    # For stars one step suffices: the first guess is off only by the target's own drift in RA
+    # over the window (<= ~1 s of time near the pole), and a step leaves that error times ~1e-5.
+    # Moving bodies take ``track.refine_steps`` steps at their own hour-angle rate.
+    for _ in range(track.refine_steps):
+        if track.parallax_coeffs is None:
+            ra = track.ra_at(cand_t, cand_idx)
+            cand_t = cand_t + _wrap12(target - (last_hours_at(cand_t) - ra)) * (
+                1.0 / SIDEREAL_RATE_HOURS_PER_SECOND)
+        else:
+            h, _ = track.hadec_at(cand_t, last_hours_at, cand_idx)
+            rate = SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(cand_t, cand_idx)
+            cand_t = cand_t + _wrap12(target - h) / rate
     keep = in_window(cand_t, start_unix, end_unix)
-    return _sorted(cand_idx[keep], cand_t[keep], cand_mark[keep])
+    found = _sorted(cand_idx[keep], cand_t[keep], cand_mark[keep])
+    return found if track.parallax_coeffs is None else _dedupe(*found)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -397,6 +505,14 @@ def find_altitude_events(track: TargetTrack, last_hours_at, latitude_deg: float,
     cos_h = _cos_crossing(sin_h0, dec_mid, sp, cp)
     # Keep a small margin: the Dec drift over the window may turn a near-miss into a crossing.
     crosses = np.abs(cos_h) < 1.0 + 1e-6
+    if track.parallax_coeffs is not None:
+        # A body's Dec (and its parallax) move far more: it crosses unless it stays on one side of
+        # the threshold's Dec limit over its whole Dec range.
+        dec_lo, dec_hi = track.dec_range(idx)
+        c_lo = _cos_crossing(sin_h0, dec_lo, sp, cp)
+        c_hi = _cos_crossing(sin_h0, dec_hi, sp, cp)
+        crosses = ~(((c_lo > 1.0) & (c_hi > 1.0) & (cos_h > 1.0))
+                    | ((c_lo < -1.0) & (c_hi < -1.0) & (cos_h < -1.0)))
     sub = np.flatnonzero(crosses)
     hc = np.arccos(np.clip(cos_h[sub], -1.0, 1.0)) / HOUR_RAD
     both_idx = np.concatenate([idx[sub], idx[sub]])
@@ -408,16 +524,26 @@ def find_altitude_events(track: TargetTrack, last_hours_at, latitude_deg: float,
                                                    start_unix, end_unix)
     s_h0, s = both_sin[cand_mark], sign[cand_mark]
     valid = np.ones(cand_t.shape, dtype=bool)
-    for _ in range(2):
-        ra, dec = track.radec_at(cand_t, cand_idx)
+    step_hours = np.zeros(cand_t.shape)
+    for _ in range(track.refine_steps + 1):
+        ha, dec = track.hadec_at(cand_t, last_hours_at, cand_idx)
         c = _cos_crossing(s_h0, dec, sp, cp)
         valid = np.abs(c) <= 1.0
         target = s * np.arccos(np.clip(c, -1.0, 1.0)) / HOUR_RAD
-        step_hours = _wrap12(target - (last_hours_at(cand_t) - ra))
-        cand_t = cand_t + step_hours * (1.0 / SIDEREAL_RATE_HOURS_PER_SECOND)
+        step_hours = _wrap12(target - ha)
+        if track.parallax_coeffs is None:
+            rate = SIDEREAL_RATE_HOURS_PER_SECOND
+        else:
+            rate = SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(cand_t, cand_idx)
+        cand_t = cand_t + step_hours / rate
+    if track.parallax_coeffs is not None:
+        # A body whose Dec turns back may not cross after all; keep converged crossings only.
+        valid &= np.abs(step_hours) < _CONVERGED_HOURS
     keep = valid & in_window(cand_t, start_unix, end_unix)
-    out_idx, out_t, out_mark = _sorted(cand_idx[keep], cand_t[keep], cand_mark[keep])
-    return out_idx, out_t, sign[out_mark] < 0.0
+    out_idx, out_t, out_sign = _sorted(cand_idx[keep], cand_t[keep], sign[cand_mark[keep]])
+    if track.parallax_coeffs is not None:
+        out_idx, out_t, out_sign = _dedupe(out_idx, out_t, out_sign)
+    return out_idx, out_t, out_sign < 0.0
 
 
 # ---------------------------------------------------------------------------------------------
@@ -453,6 +579,13 @@ def find_limit_events(track: TargetTrack, last_hours_at, latitude_deg: float, li
     low, high = low[idx], high[idx]
     max_alt = 90.0 - np.abs(latitude_deg - dec_mid)
     min_alt = np.abs(latitude_deg + dec_mid) - 90.0
+    if track.parallax_coeffs is not None:
+        # A body's Dec moves across the window: search the band of altitudes its whole Dec range
+        # can reach at the branch's hour angles (the crossing is then placed on the full model).
+        dec_lo, dec_hi = track.dec_range(idx)
+        reach = np.maximum(dec_hi - dec_mid, dec_mid - dec_lo)
+        low, high = low - reach, high + reach
+        max_alt, min_alt = max_alt + reach, min_alt - reach
     lo_alt = np.maximum(low, min_alt) - 1e-9
     hi_alt = np.minimum(high, max_alt) + 1e-9
     sub = np.flatnonzero((max_alt > low) & (min_alt < high))
@@ -499,15 +632,39 @@ def find_limit_events(track: TargetTrack, last_hours_at, latitude_deg: float, li
                                                    start_unix, end_unix)
     # Newton in time on the full model; d(margin)/dt = d(margin)/dH * dH/dt.
     rate = slope[cand_mark] * (SIDEREAL_RATE_HOURS_PER_SECOND * HOUR_RAD)
-    for _ in range(2):
-        alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, cand_t, cand_idx)
-        margin = np.sin(alt * DEG_RAD) - np.sin(limit.geometric_deg(az, cand_idx) * DEG_RAD)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = np.where(rate != 0.0, -margin / rate, 0.0)
-        cand_t = cand_t + np.clip(step, -60.0, 60.0)
-    keep = in_window(cand_t, start_unix, end_unix)
+    moving = track.parallax_coeffs is not None
+    if moving:
+        # The grid used the mid-window Dec; a body may be minutes away from it. Re-measure the
+        # slope of the margin in time on the full model and take Newton steps from there.
+        cand_t = _limit_newton(track, last_hours_at, latitude_deg, limit, cand_t, cand_idx)
+    else:
+        for _ in range(2):
+            alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, cand_t, cand_idx)
+            margin = np.sin(alt * DEG_RAD) - np.sin(limit.geometric_deg(az, cand_idx) * DEG_RAD)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                step = np.where(rate != 0.0, -margin / rate, 0.0)
+            cand_t = cand_t + np.clip(step, -60.0, 60.0)
+    keep = in_window(cand_t, start_unix, end_unix) & np.isfinite(cand_t)
     out_idx, out_t, out_mark = _sorted(cand_idx[keep], cand_t[keep], cand_mark[keep])
+    if moving:
+        out_idx, out_t, out_mark = _dedupe(out_idx, out_t, out_mark, by_mark=False)
     return out_idx, out_t, rising[out_mark]
+
+
+def _limit_newton(track, last_hours_at, latitude_deg, limit, cand_t, cand_idx):
+    """Newton steps in time on ``sin(alt) - sin(limit(az))`` with a numerical slope; nan if not converged."""
+    def margin(t):
+        alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, t, cand_idx)
+        return np.sin(alt * DEG_RAD) - np.sin(limit.geometric_deg(az, cand_idx) * DEG_RAD)
+
+    step = np.zeros(cand_t.shape)
+    for _ in range(track.refine_steps + 3):
+        m0 = margin(cand_t)
+        slope = (margin(cand_t + 1.0) - m0) / 1.0
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = np.where(slope != 0.0, -m0 / slope, 0.0)
+        cand_t = cand_t + np.clip(step, -1800.0, 1800.0)
+    return np.where(np.abs(step) < 0.01, cand_t, np.nan)
 
 
 class _LimitTable:
@@ -722,14 +879,22 @@ def _mark_candidates(track, last_hours_at, idx, ha_hours, mark, start_unix, end_
     t0, t1 = float(start_unix), float(end_unix)
     if idx.size == 0:
         return idx, np.zeros(0), mark
-    ra0 = track.ra_at(t0, idx)
-    h0 = last_hours_at(np.float64(t0)) - ra0
-    first = t0 + _wrap24(ha_hours - h0) * (1.0 / SIDEREAL_RATE_HOURS_PER_SECOND)
+    if track.parallax_coeffs is None:
+        ra0 = track.ra_at(t0, idx)
+        h0 = last_hours_at(np.float64(t0)) - ra0
+        rate = SIDEREAL_RATE_HOURS_PER_SECOND
+        day = SIDEREAL_DAY_SECONDS
+    else:
+        # A body's own day (the Moon's is about 24 h 50 m) from its hour-angle rate at the start.
+        h0, _ = track.hadec_at(np.full(idx.shape, t0), last_hours_at, idx)
+        rate = SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(t0, idx)
+        day = 24.0 / rate
+    first = t0 + _wrap24(ha_hours - h0) / rate
     parts_idx, parts_t, parts_mark = [], [], []
     lo, hi = t0 - _CANDIDATE_MARGIN_SECONDS, t1 + _CANDIDATE_MARGIN_SECONDS
-    rounds = int(math.ceil((t1 - t0) / SIDEREAL_DAY_SECONDS)) + 1
+    rounds = int(math.ceil((t1 - t0) / np.min(day))) + 1
     for k in range(-1, rounds + 1):
-        t = first + k * SIDEREAL_DAY_SECONDS
+        t = first + k * day
         if k == 0:
             keep = t < hi
             if keep.all():
@@ -778,6 +943,40 @@ def _wrap12(hours):
     """
     h = np.asarray(hours)
     return h - 24.0 * np.floor((h + 12.0) * (1.0 / 24.0))
+
+
+def _poly(coeffs, tau, index=None):
+    """Evaluate polynomial columns (highest power first) at ``tau``."""
+    c = coeffs if index is None else np.take(coeffs, index, axis=1)
+    out = c[0] * np.ones(np.shape(tau))
+    for k in range(1, c.shape[0]):
+        out = out * tau + c[k]
+    return out
+
+
+def _topocentric(ha_hours, dec_deg, parallax, site_rho):
+    """Geocentric (H, d) -> topocentric, taking the site vector off in the hour-angle frame."""
+    h = np.asarray(ha_hours) * HOUR_RAD
+    d = np.asarray(dec_deg) * DEG_RAD
+    cd = np.cos(d)
+    x = cd * np.cos(h) - parallax * site_rho[0]
+    y = cd * np.sin(h)
+    z = np.sin(d) - parallax * site_rho[1]
+    return np.arctan2(y, x) / HOUR_RAD, np.arctan2(z, np.hypot(x, y)) / DEG_RAD
+
+
+def _dedupe(idx, t, mark, *, by_mark=True):
+    """Drop repeats (two first guesses that refined onto the same event, within 1 s), sorted input."""
+    if idx.size < 2:
+        return idx, t, mark
+    keep = np.ones(idx.size, dtype=bool)
+    order = np.lexsort((t, mark, idx)) if by_mark else np.lexsort((t, idx))
+    si, st, sm = idx[order], t[order], mark[order]
+    same = (si[1:] == si[:-1]) & (np.abs(st[1:] - st[:-1]) < 1.0)
+    if by_mark:
+        same &= sm[1:] == sm[:-1]
+    keep[order[1:][same]] = False
+    return idx[keep], t[keep], mark[keep]
 
 
 def _wrap24(hours):

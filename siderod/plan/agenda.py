@@ -28,12 +28,13 @@ from datetime import UTC, datetime, timedelta
 import numpy as np
 
 from siderod.astro import events as ev
+from siderod.astro.ephemeris import geocentric_site_rho
 from siderod.astro.places import Observer, hadec_to_altaz
 from siderod.astro.sidereal import FastSidereal
 from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun
 from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
-from siderod.plan.moving import is_moving
+from siderod.plan.moving import ephemeris_for, is_moving, moving_places
 from siderod.plan.positions import observer_for, target_stars
 
 __all__ = [
@@ -119,15 +120,18 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
     if wanted & {EventKind.MOONRISE, EventKind.MOONSET}:
         records.extend(_moon_events(observer, start_unix, end_unix, dut1, wanted))
 
-    # Moving targets get their events once the engine follows a changing place (next change).
+    # Fixed places and moving bodies go in separate chunks: a chunk shares one track, and only a
+    # moving body's track carries parallax and needs the extra refinement steps.
     sky = [t for t in chosen if t.frame is not Frame.HADEC and not is_moving(t)]
+    moving = [t for t in chosen if is_moving(t)]
     fixed = [t for t in chosen if t.frame is Frame.HADEC]
     classification: dict[str, str] = {}
     dark: dict[str, tuple[tuple[datetime, datetime], ...]] = {}
-    total = len(sky)
+    total = len(sky) + len(moving)
     done = 0
-    for first in range(0, total, TARGET_CHUNK):
-        group = sky[first:first + TARGET_CHUNK]
+    groups = [sky[i:i + TARGET_CHUNK] for i in range(0, len(sky), TARGET_CHUNK)]
+    groups += [moving[i:i + TARGET_CHUNK] for i in range(0, len(moving), TARGET_CHUNK)]
+    for group in groups:
         up_at_start, crossings = _target_pieces(config, observer, group, start_unix, end_unix, wanted,
                                                 records)
         for j, target in enumerate(group):
@@ -208,7 +212,8 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
     lon = config.site.longitude_deg
     dut1 = config.time.dut1_seconds
     mid_jd_tt = float(instants_from_unix(0.5 * (start_unix + end_unix), dut1_seconds=dut1).jd_tt)
-    stars = target_stars(group, mid_jd_tt)
+    bodies = is_moving(group[0])
+    stars = None if bodies else target_stars(group, mid_jd_tt)
     crossings: dict[int, tuple[list[float], list[bool]]] = {}
     up_at_start = None
     piece_start = start_unix
@@ -219,7 +224,10 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
         def last(unix, _s=sidereal):
             return _s.last_hours(unix, lon)
 
-        track = ev.build_track(stars, piece_start, piece_end, dut1_seconds=dut1)
+        if bodies:
+            track = _moving_track(config, observer, group, piece_start, piece_end)
+        else:
+            track = ev.build_track(stars, piece_start, piece_end, dut1_seconds=dut1)
         if up_at_start is None:
             alt, az, _ = ev.target_altaz(track, last, lat, np.full(len(group), start_unix))
             up_at_start = (alt > limit.geometric_deg(az)).tolist()
@@ -255,6 +263,14 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
         order = np.argsort(times, kind="stable")
         crossings[j] = (np.asarray(times)[order], np.asarray(rising)[order])
     return up_at_start or [], crossings
+
+
+def _moving_track(config, observer, group, start_unix, end_unix):
+    """The track of planets, the Moon, comets and asteroids: exact places at a few instants, fitted."""
+    sample = ev.moving_sample_unix(start_unix, end_unix)
+    instants = instants_from_unix(sample[:, None], dut1_seconds=config.time.dut1_seconds)
+    places = moving_places(ephemeris_for(config), group, instants)
+    return ev.track_from_apparent(sample, places.unit_xyz, places.distance_au, geocentric_site_rho(observer))
 
 
 def _hour_angle_kinds(config, maker, track, last, lat, start, end, wanted):
