@@ -22,6 +22,7 @@ __all__ = [
     "Target",
     "EventSettings",
     "Mount",
+    "MountLink",
     "AlertRules",
     "NotifySettings",
     "ViewSettings",
@@ -33,6 +34,7 @@ __all__ = [
     "ClockHealth",
     "ChannelHealth",
     "ServiceSnapshot",
+    "MountView",
     "TARGET_EVENT_KINDS",
     "SKY_EVENT_KINDS",
     "COMMAND_PLACEHOLDERS",
@@ -205,12 +207,32 @@ class EventSettings:
 
 
 @dataclass(frozen=True, slots=True)
+class MountLink:
+    """``[mount.link]``: the read-only INDI link to the mount (siderod never moves it).
+
+    ``device`` empty means the first device that reports a pointing (EQUATORIAL_EOD_COORD).
+    """
+
+    enabled: bool = False
+    host: str = "127.0.0.1"
+    port: int = 7624  # the INDI protocol's registered port
+    device: str = ""
+    match_within_deg: float = 1.0  # the configured target this near the pointing is "in use"
+
+
+@dataclass(frozen=True, slots=True)
 class Mount:
-    """The telescope mount (``[mount]``). Flip and limit are minutes of time past the meridian."""
+    """The telescope mount (``[mount]``). Flip and limit are minutes of time past the meridian.
+
+    ``other_targets`` says what becomes of flip and limit alerts for targets other than the one
+    in use: ``"info"`` (low urgency) or ``"off"``.
+    """
 
     kind: MountKind = MountKind.NONE
     flip_after_minutes: float = 0.0
     limit_after_minutes: float = 15.0
+    other_targets: str = "info"
+    link: MountLink = field(default_factory=MountLink)
 
 
 @dataclass(frozen=True, slots=True)
@@ -359,6 +381,39 @@ class ChannelHealth:
 
 
 @dataclass(frozen=True, slots=True)
+class MountView:
+    """The mount as the service sees it through its read-only link, for ``status`` and the board.
+
+    ``link_state`` is ``siderod.plan.mount.LinkState`` spelled as its value; pointing fields are
+    None while nothing has been reported. ``ra_hours``/``dec_deg`` are apparent, of date.
+    ``seconds_to_flip``/``seconds_to_limit`` are None when no flip or limit is ahead (not
+    tracking, parked, already on the east side of the pier). ``in_use`` is the target in use,
+    set by the link (``in_use_source == "link"``) or by a control command (``"command"``).
+    """
+
+    link_state: str = "off"
+    link_detail: str = ""
+    device: str = ""
+    ra_hours: float | None = None
+    dec_deg: float | None = None
+    ha_hours: float | None = None
+    alt_deg: float | None = None
+    az_deg: float | None = None
+    pier_side: str = "unknown"
+    counterweight_up: bool | None = None
+    tracking: bool | None = None
+    parked: bool | None = None
+    slewing: bool = False
+    seconds_to_flip: float | None = None
+    seconds_to_limit: float | None = None
+    nearest_target: str | None = None
+    nearest_distance_deg: float | None = None
+    sun_distance_deg: float | None = None
+    in_use: str | None = None
+    in_use_source: str = ""
+
+
+@dataclass(frozen=True, slots=True)
 class ServiceSnapshot:
     """Everything ``siderod status`` and the live view show about the running service.
 
@@ -381,3 +436,4 @@ class ServiceSnapshot:
     missed_count: int = 0
     planned_count: int = 0
     clock_tolerance_seconds: float = 1.0  # from [time] clock_tolerance
+    mount: MountView = field(default_factory=MountView)

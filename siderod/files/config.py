@@ -24,6 +24,7 @@ from siderod.common.model import (
     EventSettings,
     Mount,
     MountKind,
+    MountLink,
     NotifySettings,
     Site,
     Target,
@@ -91,7 +92,8 @@ _SITE_KEYS = ("name", "latitude", "longitude", "elevation", "timezone", "pressur
 _TIME_KEYS = ("dut1", "iers_file", "clock_tolerance")
 _TARGETS_KEYS = ("files", "max_element_age")
 _EVENTS_KEYS = ("min_altitude", "altitudes", "hour_angles", "refraction", "window_hours")
-_MOUNT_KEYS = ("kind", "flip_after", "limit_after")
+_MOUNT_KEYS = ("kind", "flip_after", "limit_after", "other_targets", "link")
+_MOUNT_LINK_KEYS = ("enabled", "host", "port", "device", "match_within")
 _ALERTS_KEYS = ("grace", "horizon_hours", "replan", "hold_while_sun_above", "hold_kinds", "lead", "urgency",
                 "sun_separation_min")
 _NOTIFY_KEYS = ("desktop", "command", "command_timeout")
@@ -429,8 +431,32 @@ def _mount(problems: Problems, data: Mapping[str, Any]) -> Mount:
         problems.add("mount.limit_after", show_value(table.get("limit_after", limit)),
                      f"limit_after >= flip_after ({flip:g} min): the mount must reach its flip "
                      "before its tracking limit")
+    others = read_choice(problems, table, "other_targets", "mount", ["info", "off"], default="info")
     return Mount(kind=kind or MountKind.NONE, flip_after_minutes=flip or 0.0,
-                 limit_after_minutes=limit if limit is not None else 15.0)
+                 limit_after_minutes=limit if limit is not None else 15.0,
+                 other_targets=others or "info", link=_mount_link(problems, table))
+
+
+def _mount_link(problems: Problems, mount_table: Mapping[str, Any]) -> MountLink:
+    present = isinstance(mount_table.get("link"), dict)
+    table = read_table(problems, mount_table, "link", "mount", _MOUNT_LINK_KEYS)
+    enabled = read_bool(problems, table, "enabled", "mount.link", default=present)
+    host = read_string(problems, table, "host", "mount.link", default="127.0.0.1",
+                       what="a host name or address in quotes")
+    port = read_number(problems, table, "port", "mount.link", default=7624, low=1, high=65535,
+                       what="a TCP port number")
+    if port is not None and port != int(port):
+        problems.add("mount.link.port", show_value(port), "a whole TCP port number (1-65535)")
+        port = None
+    device = table.get("device", "")
+    if not isinstance(device, str):
+        problems.add("mount.link.device", show_value(device), "the telescope device name in quotes")
+        device = ""
+    within = read_number(problems, table, "match_within", "mount.link", default=1.0, low=0.0,
+                         high=30.0, low_open=True, what="degrees")
+    return MountLink(enabled=bool(enabled), host=host or "127.0.0.1",
+                     port=int(port) if port is not None else 7624, device=device.strip(),
+                     match_within_deg=float(within) if within is not None else 1.0)
 
 
 def _alerts(problems: Problems, data: Mapping[str, Any]) -> AlertRules:

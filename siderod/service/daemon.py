@@ -172,6 +172,7 @@ class Service:
         self._sun_altitude: Callable[[datetime], float] | None = None
         self._service_message_count = 0
         self._catch_up_floor_utc: datetime | None = None
+        self._mount: Any = None  # siderod.service.mount.MountDesk, built in run()
 
     # -- public API ----------------------------------------------------------------------------
     async def run(self, *, install_signal_handlers: bool = False) -> None:
@@ -203,6 +204,10 @@ class Service:
             self._catch_up_floor_utc = self.started_utc if self._ledger.is_new else None
             self._ledger.prune(self._clock.now_utc() - timedelta(days=LEDGER_KEEP_DAYS))
             self._mutes = self._ledger.mutes(self._clock.now_utc())
+            from siderod.service.mount import MountDesk
+
+            self._mount = MountDesk(self._clock, self._send_mount_message, self.replan)
+            self._mount.start(self.config, self._ledger)
             self._scheduler = self._make_scheduler()
             await self._scheduler.start()
             stack.push_async_callback(self._scheduler.shutdown)
@@ -244,6 +249,7 @@ class Service:
                     if self._file_poll_seconds > 0:
                         tasks.create_task(self._file_watch(), name="file-watch")
                     tasks.create_task(self._watchdog(), name="watchdog")
+                    tasks.create_task(self._mount.run(), name="mount")
                     tasks.create_task(self._stopper(), name="stopper")
             except* _StopRequested:
                 pass
@@ -291,7 +297,13 @@ class Service:
             return {"reloaded": ok, "config_path": path, "error": self.config_error}
         if op == "test-alert":
             return {"channels": await self.send_test_alert()}
-        raise ControlError(f"unknown request {op!r}; expected status, mute, unmute, reload or test-alert")
+        if op == "use":
+            target = None if request.target is None else self._known_target(request.target)
+            await self._mount.use(target, "command")
+            return {"target": target}
+        raise ControlError(
+            f"unknown request {op!r}; expected status, mute, unmute, reload, test-alert or use"
+        )
 
     def snapshot(self) -> ServiceSnapshot:
         """Everything ``status`` and the live view show, built fresh."""
@@ -317,6 +329,7 @@ class Service:
             missed_count=counts.get("missed", 0),
             planned_count=len(self._plan),
             clock_tolerance_seconds=self.config.time.clock_tolerance_seconds,
+            mount=self._mount.view(),
         )
 
     async def mute(self, target: str, until_utc: datetime | None) -> None:
@@ -373,6 +386,7 @@ class Service:
             await self._stop_workers()
             self._channels = build_channels(new_config)
             self._start_workers()
+        self._mount.update_config(new_config)
         log.info("configuration reloaded (%s) from %s", reason, new_config.path)
         await self.replan("reload")
         self._notify("READY=1\n" + self._status_line())
@@ -407,6 +421,7 @@ class Service:
             planned = plan_alerts(
                 agenda, config, muted=self._mutes, now_utc=now_utc, sun_altitude_deg=self._sun_altitude
             )
+            planned = self._mount.adjust(planned, config)  # the target in use
             if self._catch_up_floor_utc is not None:
                 planned = tuple(a for a in planned if a.due_utc >= self._catch_up_floor_utc)
             now_utc = self._clock.now_utc()  # the agenda may have taken a while
@@ -611,6 +626,12 @@ class Service:
         titles, self._missed_titles = self._missed_titles, []
         title, body = format_missed_summary(titles, self.config.alerts.grace_minutes)
         self._put_service_message(title, body, Urgency.NORMAL)
+
+    async def _send_mount_message(self, message: AlertMessage) -> None:
+        """A live mount alert (siderod.service.mount): queued at once on every channel's worker."""
+        now_utc = self._clock.now_utc()
+        for worker in self._workers.values():
+            worker.put(OwedDelivery(message, now_utc, ledger=False))
 
     async def _send_service_message(self, title: str, body: str, urgency: Urgency) -> None:
         """Queue a service message and wait (bounded) until each channel has tried it once."""

@@ -20,6 +20,7 @@ kernel's page cache) but not a power cut, which may lose the last few transactio
 
 from __future__ import annotations
 
+import json
 import os
 import sqlite3
 from collections.abc import Iterable, Mapping
@@ -369,6 +370,34 @@ class Ledger:
             t: None if u is None else datetime.fromtimestamp(u, UTC)
             for t, u in self._db.execute("SELECT target, until_unix FROM mutes ORDER BY target")
         }
+
+    # -- the target in use (kept here so a restart remembers it; cleared at dawn) -------------
+    def set_in_use(self, target: str | None, source: str = "", until_utc: datetime | None = None) -> None:
+        """Remember the target in use (None forgets it) and who set it, until ``until_utc``."""
+        if target is None:
+            self._db.execute("DELETE FROM meta WHERE name = 'in_use'")
+            return
+        value = json.dumps({"target": target, "source": source,
+                            "until_unix": None if until_utc is None else until_utc.timestamp()})
+        self._db.execute("INSERT OR REPLACE INTO meta(name, value) VALUES ('in_use', ?)", (value,))
+
+    def in_use(self, now_utc: datetime) -> tuple[str, str, datetime | None] | None:
+        """(target, source, until) of the target in use, or None (an expired one is forgotten)."""
+        row = self._db.execute("SELECT value FROM meta WHERE name = 'in_use'").fetchone()
+        if row is None:
+            return None
+        try:
+            data = json.loads(row[0])
+            until = data.get("until_unix")
+            until_utc = None if until is None else datetime.fromtimestamp(float(until), UTC)
+            target, source = str(data["target"]), str(data.get("source", ""))
+        except (ValueError, KeyError, TypeError):
+            self.set_in_use(None)
+            return None
+        if until_utc is not None and until_utc <= now_utc:
+            self.set_in_use(None)
+            return None
+        return target, source, until_utc
 
     # -- helpers ---------------------------------------------------------------------------
     def _transaction(self) -> _Transaction:

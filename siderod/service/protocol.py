@@ -24,6 +24,7 @@ from siderod.common.model import (
     Delivery,
     Event,
     EventKind,
+    MountView,
     PlannedAlert,
     ServiceSnapshot,
     Site,
@@ -72,6 +73,7 @@ class Op(enum.StrEnum):
     UNMUTE = "unmute"
     RELOAD = "reload"
     TEST_ALERT = "test-alert"
+    USE = "use"  # set the target in use (null target: none)
 
 
 # The fields each op takes besides "op", with whether each one is required.
@@ -81,6 +83,7 @@ _OP_FIELDS: dict[Op, dict[str, bool]] = {
     Op.UNMUTE: {"target": True},
     Op.RELOAD: {},
     Op.TEST_ALERT: {},
+    Op.USE: {"target": True},
 }
 
 
@@ -159,7 +162,9 @@ def request_from_json(data: Any) -> Request:
     missing = [k for k, required in fields.items() if required and k not in data]
     if missing:
         raise BadRequest(f'"{op}" request needs "{missing[0]}"')
-    target = _valid_target(data["target"]) if "target" in fields else None
+    target = None
+    if "target" in fields and not (op is Op.USE and data["target"] is None):
+        target = _valid_target(data["target"])
     for_seconds = _valid_for_seconds(data.get("for_seconds")) if op is Op.MUTE else None
     return Request(op=op, target=target, for_seconds=for_seconds)
 
@@ -269,6 +274,7 @@ def snapshot_to_json(snapshot: ServiceSnapshot) -> dict[str, Any]:
         "missed_count": snapshot.missed_count,
         "planned_count": snapshot.planned_count,
         "clock_tolerance_seconds": snapshot.clock_tolerance_seconds,
+        "mount": _mount_to_json(snapshot.mount),
     }
 
 
@@ -314,6 +320,43 @@ def snapshot_from_json(data: Any) -> ServiceSnapshot:
         missed_count=r.integer("missed_count", default=0),
         planned_count=r.integer("planned_count", default=0),
         clock_tolerance_seconds=r.number("clock_tolerance_seconds", default=1.0),
+        mount=_mount_from_json(r.obj("mount")) if "mount" in r.keys() else MountView(),
+    )
+
+
+_MOUNT_NUMBERS = ("ra_hours", "dec_deg", "ha_hours", "alt_deg", "az_deg", "seconds_to_flip",
+                  "seconds_to_limit", "nearest_distance_deg", "sun_distance_deg")
+_MOUNT_FLAGS = ("counterweight_up", "tracking", "parked")
+
+
+def _mount_to_json(m: MountView) -> dict[str, Any]:
+    data: dict[str, Any] = {
+        "link_state": m.link_state,
+        "link_detail": m.link_detail,
+        "device": m.device,
+        "pier_side": m.pier_side,
+        "slewing": m.slewing,
+        "nearest_target": m.nearest_target,
+        "in_use": m.in_use,
+        "in_use_source": m.in_use_source,
+    }
+    data.update({name: _num(getattr(m, name)) for name in _MOUNT_NUMBERS})
+    data.update({name: getattr(m, name) for name in _MOUNT_FLAGS})
+    return data
+
+
+def _mount_from_json(r: _Reader) -> MountView:
+    return MountView(
+        link_state=r.text("link_state"),
+        link_detail=r.text("link_detail", default=""),
+        device=r.text("device", default=""),
+        pier_side=r.text("pier_side", default="unknown"),
+        slewing=bool(r.flag("slewing", optional=True)),
+        nearest_target=r.text("nearest_target", optional=True),
+        in_use=r.text("in_use", optional=True),
+        in_use_source=r.text("in_use_source", default=""),
+        **{name: r.number(name, optional=True) for name in _MOUNT_NUMBERS},
+        **{name: r.flag(name, optional=True) for name in _MOUNT_FLAGS},
     )
 
 

@@ -1,0 +1,89 @@
+"""The target in use: set by a control request, shapes flip and limit urgency, kept across restarts."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from datetime import timedelta
+
+import pytest
+from helpers import service_fakes as fakes
+
+from siderod.common.clock import FakeClock
+from siderod.common.model import EventKind, Urgency
+from siderod.service.protocol import Op, Request, parse_request, snapshot_from_json, snapshot_to_json
+from siderod.service.scheduling import ClockScheduler
+
+
+def _service(tmp_path, clock, config, channels):
+    from siderod.service.daemon import Service
+
+    return Service(
+        lambda: config,
+        clock,
+        lambda on_due: ClockScheduler(on_due, clock),
+        channels,
+        ledger_path=tmp_path / "ledger.sqlite3",
+        agenda_source=fakes.FixedAgendaSource(fakes.synthetic_night()),
+        control=False,
+        env={},
+        offload_planning=False,
+        file_poll_seconds=0,
+        anomaly_period_seconds=10.0,
+        clock_health_reader=_health,
+    )
+
+
+def _health():
+    from siderod.common.model import ClockHealth
+
+    return ClockHealth(state="synchronised", estimated_error_seconds=0.001)
+
+
+def _flip_urgencies(service):
+    return {a.event.target: a.urgency for a in service._plan.values() if a.event.kind is EventKind.FLIP_DUE}
+
+
+@pytest.mark.slow
+async def test_use_request_makes_one_target_critical_and_survives_a_restart(tmp_path):
+    clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=2))
+    config = fakes.make_config(horizon_hours=16.0)
+    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    task = await fakes.run_service_until(service, clock, clock.now_utc())
+    before = _flip_urgencies(service)
+    assert set(before.values()) == {Urgency.CRITICAL}  # nothing in use: today's behaviour
+
+    reply = await service.handle_request(parse_request(b'{"op": "use", "target": "NGC 1003"}'))
+    assert reply == {"target": "NGC 1003"}
+    after = _flip_urgencies(service)
+    assert after["NGC 1003"] is Urgency.CRITICAL
+    assert {after[name] for name in after if name != "NGC 1003"} == {Urgency.LOW}
+    view = snapshot_from_json(snapshot_to_json(service.snapshot())).mount
+    assert (view.in_use, view.in_use_source, view.link_state) == ("NGC 1003", "command", "off")
+    await fakes.stop_service(service, task)
+
+    # A restart remembers it (the ledger keeps it until dawn).
+    service = _service(tmp_path, clock, replace(config, mount=replace(config.mount, other_targets="off")),
+                       [fakes.RecordingChannel(clock)])
+    task = await fakes.run_service_until(service, clock, clock.now_utc())
+    assert service.snapshot().mount.in_use == "NGC 1003"
+    assert set(_flip_urgencies(service)) == {"NGC 1003"}  # others "off"
+
+    # Cleared with a null target.
+    await service.handle_request(Request(op=Op.USE, target=None))
+    assert service.snapshot().mount.in_use is None
+    assert set(_flip_urgencies(service).values()) == {Urgency.CRITICAL} and len(_flip_urgencies(service)) > 1
+    await fakes.stop_service(service, task)
+
+
+@pytest.mark.slow
+async def test_target_in_use_is_forgotten_at_dawn(tmp_path):
+    clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=4))  # 20:00 UTC
+    service = _service(tmp_path, clock, fakes.make_config(), [fakes.RecordingChannel(clock)])
+    task = await fakes.run_service_until(service, clock, clock.now_utc())
+    await service.handle_request(Request(op=Op.USE, target="NGC 1001"))
+    until = service._mount.in_use_until_utc
+    assert until is not None and until.date() > clock.now_utc().date()
+    while clock.now_utc() < until + timedelta(minutes=15):
+        await clock.advance(300.0)
+    assert service.snapshot().mount.in_use is None
+    await fakes.stop_service(service, task)
