@@ -158,7 +158,7 @@ class MountWatch:
                             Urgency.NORMAL)
         elif old is LinkState.LINKED:
             self.pending = ()
-            if self._is_night():
+            if state is not LinkState.OFF and self._is_night():  # OFF: the user switched it off
                 self._link_alerted = True
                 self._queue(
                     "link-lost",

@@ -87,3 +87,26 @@ async def test_target_in_use_is_forgotten_at_dawn(tmp_path):
         await clock.advance(300.0)
     assert service.snapshot().mount.in_use is None
     await fakes.stop_service(service, task)
+
+
+@pytest.mark.slow
+async def test_a_mount_alert_reaches_every_channel(tmp_path):
+    from siderod.plan.mount import LinkState, PierSide
+
+    clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=4))
+    recorders = [fakes.RecordingChannel(clock, "one"), fakes.RecordingChannel(clock, "two")]
+    service = _service(tmp_path, clock, fakes.make_config(), recorders)
+    task = await fakes.run_service_until(service, clock, clock.now_utc())
+    await clock.settle()  # the service's tasks start (the link loop says "off": none configured)
+    watch = service._mount.watch
+    watch.set_link(LinkState.LINKED, "test")
+    sky = watch._sky(with_sun_distance=False)
+    # Two minutes before the flip mark (+5 min in the synthetic configuration), pre-flip side.
+    watch.report(ra_hours=(sky.last_hours - 3 / 60) % 24, dec_deg=30.0, slewing=False)
+    watch.report(pier_side=PierSide.WEST, tracking=True)
+    for _ in range(18):
+        await clock.advance(10.0)
+    for recorder in recorders:
+        kinds = [r.message.kind for r in recorder.received if r.message.key.startswith("mount|")]
+        assert kinds == ["flip-due", "flip-due"]  # the 10-minute warning at once, then the flip
+    await fakes.stop_service(service, task)
