@@ -41,6 +41,11 @@ def _start(tmp_path: Path, epoch: float) -> subprocess.Popen:
     return process
 
 
+def _running_lines(tmp_path: Path) -> int:
+    path = tmp_path / "child.err"
+    return path.read_text().count("siderod service running") if path.exists() else 0
+
+
 def _sent(tmp_path: Path) -> list[str]:
     path = tmp_path / "sent.log"
     return path.read_text().splitlines() if path.exists() else []
@@ -66,6 +71,11 @@ def test_kill_9_and_restart_never_repeats_or_loses(tmp_path):
     expected = [f"T{i:03d}" for i in range(COUNT)]
     while time.time() < deadline and len(set(_sent(tmp_path))) < COUNT:
         time.sleep(0.1)
+    # The last child may have nothing left to send: wait until it has its signal handlers (it says
+    # "running" after installing them), or SIGTERM kills it before it can stop cleanly.
+    ready_deadline = time.time() + 20.0
+    while time.time() < ready_deadline and _running_lines(tmp_path) < KILLS + 1:
+        time.sleep(0.05)
     process.send_signal(signal.SIGTERM)
     assert process.wait(timeout=10) == 0, (tmp_path / "child.err").read_text()[-3000:]
     process.stdout.close()
