@@ -43,8 +43,8 @@ __all__ = [
 #: the mean sidereal day (IAU 1982 value, 1.00273790935; the drift of the ratio is negligible
 #: over one night).
 SIDEREAL_RATE = 1.00273790935
-#: Pointing within this of the Sun's centre raises the critical Sun alert while tracking (common
-#: practice; the same distance the board uses for its solar caution).
+#: The board's solar caution distance (common practice); the service's Sun alert for the mount
+#: uses ``[alerts] sun_separation_min``, the configured caution distance.
 SUN_CAUTION_DEG = 20.0
 #: A configured target within this of the mount's pointing is named as the one it is on.
 NEAREST_TARGET_DEG = 1.0

@@ -28,7 +28,6 @@ from typing import Any
 from siderod.common.clock import Clock
 from siderod.common.model import Config, EventKind, MountView, Urgency
 from siderod.plan.mount import (
-    SUN_CAUTION_DEG,
     LinkState,
     MountDue,
     PierSide,
@@ -401,14 +400,15 @@ class MountWatch:
     def _check_sun(self, p: Pointing, sky: _Sky) -> None:
         if sky.sun_distance_deg is None:
             return
+        caution_deg = self.config.alerts.sun_separation_min_deg  # the configured caution distance
         if p.tracking is True and sky.sun_alt_deg > SUN_ALERT_SUN_ABOVE_DEG \
-                and sky.sun_distance_deg < SUN_CAUTION_DEG:
+                and sky.sun_distance_deg < caution_deg:
             if self._sun_alerted_episode != self.episode:
                 self._sun_alerted_episode = self.episode
                 self._queue(
                     "sun", "DANGER: the mount points near the Sun",
                     f"The mount is tracking {sky.sun_distance_deg:.1f}° from the Sun (caution distance "
-                    f"{SUN_CAUTION_DEG:g}°). Never point unfiltered optics at or near the Sun: cover "
+                    f"{caution_deg:g}°). Never point unfiltered optics at or near the Sun: cover "
                     "the optics now. siderod never moves the mount.",
                     Urgency.CRITICAL,
                 )
