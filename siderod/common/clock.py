@@ -132,6 +132,16 @@ class FakeClock:
             raise ValueError("a suspend lasts a non-negative time")
         self._wall_utc += timedelta(seconds=seconds)
 
+    def stall(self, seconds: float) -> None:
+        """Simulate a stopped process (SIGSTOP, a paused machine): both clocks move, nobody wakes.
+
+        The sleepers whose deadlines passed wake at the next ``advance`` or ``settle``-and-advance,
+        all at once and late, as after a SIGCONT.
+        """
+        if seconds < 0:
+            raise ValueError("a stall lasts a non-negative time")
+        self._move_both(seconds)
+
     async def settle(self) -> None:
         """Let every task that can run without time passing run."""
         await _settle()

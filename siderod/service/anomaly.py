@@ -1,10 +1,14 @@
-"""Notice when wall time and monotonic time stop agreeing: a suspend or a clock step.
+"""Notice when time did not pass the way the service thinks: a suspend, a clock step, a stall.
 
 Every few seconds of monotonic time the watch compares how far the wall clock moved with how far
 the monotonic clock moved. On Linux CLOCK_MONOTONIC stands still during a suspend and ignores
 steps, so a difference means the scheduler's countdowns are now wrong and the plan must be
 re-checked. Where CLOCK_BOOTTIME exists (Linux) it tells a suspend from a step; elsewhere the
 report says "forward" without guessing which.
+
+The watch also checks its own progress: a sleep that ends much later than asked means the
+process did not run (SIGSTOP, Ctrl-Z, a paused virtual machine, a frozen cgroup, a swap storm).
+Wall and monotonic time agree then, so only this check sees it; it is reported as a "stall".
 """
 
 from __future__ import annotations
@@ -16,21 +20,26 @@ from datetime import datetime
 
 from siderod.common.clock import Clock
 
-__all__ = ["ClockAnomaly", "classify_progress", "ClockWatch", "STEP_TOLERANCE_SECONDS"]
+__all__ = ["ClockAnomaly", "classify_progress", "ClockWatch", "STEP_TOLERANCE_SECONDS",
+           "STALL_TOLERANCE_SECONDS"]
 
 log = logging.getLogger("siderod.anomaly")
 
 # A disagreement smaller than this is NTP slewing or loop latency, not a step: slewing moves the
 # clock at most 0.5 ms/s (common practice: ntpd/chrony max slew 500 ppm), i.e. 1 ms per 2 s check.
 STEP_TOLERANCE_SECONDS = 0.5
+# A watch sleep that ends this much later than asked is a stall, not scheduling noise: a loaded
+# two-core machine delays a ready task by milliseconds to tens of milliseconds (our judgement).
+STALL_TOLERANCE_SECONDS = 3.0
 
 
 @dataclass(frozen=True, slots=True)
 class ClockAnomaly:
     """The wall clock moved ``jump_seconds`` more than the monotonic clock (negative: back).
 
-    ``kind`` is "suspend" (the machine slept), "step-forward", "step-back", or "forward" when
-    a suspend cannot be told from a forward step.
+    ``kind`` is "suspend" (the machine slept), "step-forward", "step-back", "forward" when
+    a suspend cannot be told from a forward step, or "stall" (the process did not run for
+    ``jump_seconds`` more than it slept; wall and monotonic time agree).
     """
 
     kind: str
@@ -111,14 +120,21 @@ class ClockWatch:
                 None if boot is None or last_boot is None else boot - last_boot,
                 wall,
             )
+            overslept = mono - last_mono - self._period_seconds
             last_wall, last_mono, last_boot = wall, mono, boot
+            if anomaly is None and overslept > STALL_TOLERANCE_SECONDS:
+                anomaly = ClockAnomaly("stall", overslept, wall)
             if anomaly is not None:
                 self.anomalies.append(anomaly)
-                log.warning(
-                    "clock anomaly: %s of %+.1f s (wall vs monotonic); re-planning",
-                    anomaly.kind,
-                    anomaly.jump_seconds,
-                )
+                if anomaly.kind == "stall":
+                    log.warning("the service did not run for %.1f s (stopped or starved); re-planning",
+                                anomaly.jump_seconds)
+                else:
+                    log.warning(
+                        "clock anomaly: %s of %+.1f s (wall vs monotonic); re-planning",
+                        anomaly.kind,
+                        anomaly.jump_seconds,
+                    )
                 await self._on_anomaly(anomaly)
 
 

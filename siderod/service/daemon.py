@@ -201,7 +201,8 @@ class Service:
             stack.callback(self._ledger.close)
             # Catching up on alerts that fell due while the service was down only makes sense if
             # it ran before; a first start begins with what is due from now on.
-            self._catch_up_floor_utc = self.started_utc if self._ledger.is_new else None
+            # The floor is stored in the ledger, so the promise outlives a restart.
+            self._catch_up_floor_utc = self._ledger.catch_up_floor(self.started_utc)
             self._ledger.prune(self._clock.now_utc() - timedelta(days=LEDGER_KEEP_DAYS))
             self._mutes = self._ledger.mutes(self._clock.now_utc())
             from siderod.service.mount import MountDesk
@@ -311,7 +312,9 @@ class Service:
         config = self.config
         if config is None or self._ledger is None:
             raise SiderodError("the service has not started yet")
-        upcoming = sorted(self._plan.values(), key=lambda a: (a.due_utc, a.key))
+        # Only what is still ahead: an alert past due is being delivered or swept, never "next".
+        ahead = (a for a in self._plan.values() if a.due_utc >= now_utc)
+        upcoming = sorted(ahead, key=lambda a: (a.due_utc, a.key))
         counts = self._ledger.counts()
         return ServiceSnapshot(
             taken_utc=now_utc,
@@ -749,7 +752,7 @@ class Service:
         from siderod.service.scheduling import APSchedulerAdapter
 
         assert self.config is not None
-        return APSchedulerAdapter(self._on_due, misfire_grace_seconds=self.config.alerts.grace_minutes * 60.0)
+        return APSchedulerAdapter(self._on_due)
 
     async def _compute_agenda(self, config: Config, start_utc: datetime, hours: float) -> Any:
         source = self._agenda_source
@@ -775,9 +778,11 @@ class Service:
         )
 
     def _status_line(self) -> str:
-        if not self._plan:
+        now_utc = self._clock.now_utc()
+        ahead = [a for a in self._plan.values() if a.due_utc >= now_utc]
+        if not ahead:
             return "STATUS=no alerts planned"
-        first = min(self._plan.values(), key=lambda a: (a.due_utc, a.key))
+        first = min(ahead, key=lambda a: (a.due_utc, a.key))
         return f"STATUS=next alert {first.due_utc.strftime('%H:%M:%S')} UTC: {first.title}"
 
     def _notify(self, message: str) -> None:

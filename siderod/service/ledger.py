@@ -98,6 +98,18 @@ class Ledger:
         )
         self.is_new = cursor.rowcount == 1
 
+    def catch_up_floor(self, now_utc: datetime) -> datetime | None:
+        """Alerts due before this instant were never owed: the first start of this ledger.
+
+        A brand-new ledger stores ``now_utc`` as its floor; later opens return the stored one.
+        None for a ledger started before floors were stored (it may owe anything within grace).
+        """
+        if self.is_new:
+            self._db.execute("INSERT OR REPLACE INTO meta(name, value) VALUES ('catch_up_floor_unix', ?)",
+                             (repr(now_utc.timestamp()),))
+        row = self._db.execute("SELECT value FROM meta WHERE name = 'catch_up_floor_unix'").fetchone()
+        return None if row is None else datetime.fromtimestamp(float(row[0]), UTC)
+
     # -- lifecycle -------------------------------------------------------------------------
     def close(self) -> None:
         self._db.close()

@@ -56,20 +56,22 @@ class APSchedulerAdapter:
 
     Args:
         on_due: called with the alert key when its job runs (on the loop thread; must not block).
-        misfire_grace_seconds: how late APScheduler may still run a job. It must go in
-            ``job_defaults``: a top-level ``misfire_grace_time`` argument is silently ignored.
-            Jobs later than this are dropped by APScheduler; the service's ledger sweep then
-            records them as missed, so nothing is lost silently.
+        misfire_grace_seconds: accepted for compatibility and ignored. APScheduler drops a job
+            that runs later than its misfire grace without telling anyone (a stopped process
+            resumed, a starved loop); the service must decide instead, so every job runs however
+            late (``misfire_grace_time=None`` in ``job_defaults``, where it must go: a top-level
+            argument is silently ignored) and the service delivers it late-marked or records it
+            missed.
     """
 
-    def __init__(self, on_due: DueCallback, *, misfire_grace_seconds: float = 600.0) -> None:
+    def __init__(self, on_due: DueCallback, *, misfire_grace_seconds: float | None = None) -> None:
         from apscheduler.schedulers.asyncio import AsyncIOScheduler
 
         self._on_due = on_due
         self._scheduler = AsyncIOScheduler(
             timezone=UTC,
             job_defaults={
-                "misfire_grace_time": max(1, int(misfire_grace_seconds)),
+                "misfire_grace_time": None,
                 "coalesce": True,
                 "max_instances": 1,
             },

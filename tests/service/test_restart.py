@@ -12,12 +12,14 @@ import signal
 import subprocess
 import sys
 import time
-from datetime import timedelta
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import pytest
 
 from siderod.service.ledger import Ledger
+
+NIGHT_START_UTC = datetime(2026, 12, 14, 16, 0, tzinfo=UTC)  # helpers/service_fakes.NIGHT_START_UTC
 
 CHILD = Path(__file__).resolve().parents[1] / "helpers" / "restart_child.py"
 SPEED = 200.0  # simulated seconds per real second
@@ -68,8 +70,8 @@ def test_kill_9_and_restart_never_repeats_or_loses(tmp_path):
     process = _start(tmp_path, epoch)
     last_due_real = epoch + (30.0 + COUNT * 10.0) / SPEED
     deadline = time.time() + max(0.0, last_due_real - time.time()) + 2.0
-    expected = [f"T{i:03d}" for i in range(COUNT)]
-    while time.time() < deadline and len(set(_sent(tmp_path))) < COUNT:
+    last = f"T{COUNT - 1:03d}|"
+    while time.time() < deadline and not any(k.startswith(last) for k in _sent(tmp_path)):
         time.sleep(0.1)
     # The last child may have nothing left to send: wait until it has its signal handlers (it says
     # "running" after installing them), or SIGTERM kills it before it can stop cleanly.
@@ -82,14 +84,21 @@ def test_kill_9_and_restart_never_repeats_or_loses(tmp_path):
 
     sent = _sent(tmp_path)
     targets = [k.split("|")[0] for k in sent]
-    assert sorted(set(targets)) == expected, "nothing lost"
+    # Alerts due before the ledger's first start were never owed, in the first run or any restart
+    # (issue 14 item 3); the child's start-up takes a few simulated minutes at SPEED.
+    with Ledger(tmp_path / "ledger.sqlite3") as ledger:
+        floor_utc = ledger.catch_up_floor(datetime.now(UTC))
+    first_due_utc = NIGHT_START_UTC + timedelta(seconds=30.0)
+    expected = [f"T{i:03d}" for i in range(COUNT) if first_due_utc + timedelta(seconds=10.0 * i) >= floor_utc]
+    assert len(expected) > COUNT // 2  # the test still covers most alerts
+    assert sorted(set(targets)) == expected, "nothing lost, nothing from before the first start"
     repeats = {k for k in sent if sent.count(k) > 1}
     assert repeats <= crash_window_keys, f"a repeat outside the crash window: {repeats - crash_window_keys}"
     assert all(sent.count(k) <= 2 for k in sent)
     with Ledger(tmp_path / "ledger.sqlite3") as ledger:
         states = {r.key: r.state for r in ledger.rows()}
     assert set(states.values()) == {"delivered"}
-    assert len(states) == COUNT
+    assert len(states) == len(expected)
     # Restarts did happen across due alerts (sanity of the test itself).
     assert (tmp_path / "child.err").read_text().count("siderod service running") == KILLS + 1
 
