@@ -26,6 +26,7 @@ SPEED = 200.0  # simulated seconds per real second
 COUNT = 150  # alerts, 10 simulated seconds apart: 1500 s simulated = 7.5 s real
 KILLS = 6
 START_TIMEOUT_SECONDS = 10.0  # a child that does not say "child up" in this long is a failure
+FINISH_SLACK_SECONDS = 30.0  # how long past the last due time the test waits for it (failure bound)
 
 
 def _start(tmp_path: Path, epoch: float) -> subprocess.Popen:
@@ -69,7 +70,8 @@ def test_kill_9_and_restart_never_repeats_or_loses(tmp_path):
             crash_window_keys.add(sent[-1])
     process = _start(tmp_path, epoch)
     last_due_real = epoch + (30.0 + COUNT * 10.0) / SPEED
-    deadline = time.time() + max(0.0, last_due_real - time.time()) + 2.0
+    # The last alert normally arrives on time; the slack only bounds a failure on a loaded machine.
+    deadline = time.time() + max(0.0, last_due_real - time.time()) + FINISH_SLACK_SECONDS
     last = f"T{COUNT - 1:03d}|"
     while time.time() < deadline and not any(k.startswith(last) for k in _sent(tmp_path)):
         time.sleep(0.1)
