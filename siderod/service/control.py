@@ -64,7 +64,10 @@ WRITE_TIMEOUT_SECONDS = 5.0
 #: The longest the service may take over one request. ``test-alert`` waits for every channel, each
 #: bounded by its own timeout (desktop 5 s, command hook 10 s by default), so this sits well above.
 HANDLER_TIMEOUT_SECONDS = 60.0
-#: Connections served at once; more are answered "busy" and closed, so a flood cannot pile up tasks.
+#: Connections served at once. A new connection over the limit takes the slot of the one that has
+#: waited longest without a request in progress (so clients that connect and idle cannot keep
+#: ``status`` out); only when every slot is busy with a request is it answered "busy", so a flood
+#: cannot pile up tasks.
 MAX_CONNECTIONS = 16
 #: sun_path holds 108 bytes on Linux including the terminating NUL.
 _MAX_SOCKET_PATH_BYTES = 107
@@ -123,9 +126,11 @@ class ControlServer:
         self._server: asyncio.AbstractServer | None = None
         self._socket_ino: tuple[int, int] | None = None
         self._connections: dict[asyncio.Task[Any], asyncio.StreamWriter] = {}
+        # For each connection waiting for a request line: since when (monotonic); absent while busy.
+        self._idle_since: dict[asyncio.Task[Any], float] = {}
         #: Counters for tests and the log: served, refused_peers, bad_requests, busy, timeouts.
         self.counts: dict[str, int] = dict.fromkeys(
-            ("served", "refused_peers", "bad_requests", "busy", "timeouts", "handler_errors"), 0
+            ("served", "refused_peers", "bad_requests", "busy", "timeouts", "handler_errors", "evicted"), 0
         )
 
     async def __aenter__(self) -> ControlServer:
@@ -237,6 +242,7 @@ class ControlServer:
             _log.debug("control connection ended early: %s", e)
         finally:
             self._connections.pop(task, None)
+            self._idle_since.pop(task, None)
             writer.close()
             with contextlib.suppress(Exception):
                 await writer.wait_closed()
@@ -250,13 +256,17 @@ class ControlServer:
                          uid, self._allowed_uid)
             await self._reply(writer, error_reply("refused: this siderod service belongs to another user"))
             return
-        if len(self._connections) > self._max_connections:
+        if len(self._connections) > self._max_connections and not self._evict_longest_idle():
             self.counts["busy"] += 1
             await self._reply(writer, error_reply("busy: too many control connections; try again"))
             return
+        task = asyncio.current_task()
+        assert task is not None
         served_here = 0
         while True:
+            self._idle_since[task] = time.monotonic()
             line = await self._read_line(reader, writer, first=served_here == 0)
+            self._idle_since.pop(task, None)
             if line is None:
                 return
             try:
@@ -265,9 +275,28 @@ class ControlServer:
                 self.counts["bad_requests"] += 1
                 await self._reply(writer, error_reply(str(e)))
                 continue
+            except Exception as e:  # a parser bug must still get the peer an answer
+                self.counts["bad_requests"] += 1
+                _log.exception("control request could not be read")
+                await self._reply(writer, error_reply(f"request could not be read: {type(e).__name__}"))
+                continue
             await self._reply(writer, await self._dispatch(request))
             served_here += 1
             self.counts["served"] += 1
+
+    def _evict_longest_idle(self) -> bool:
+        """Close the connection that has waited longest for a request; False if none is idle."""
+        me = asyncio.current_task()
+        idle = [(since, task) for task, since in self._idle_since.items() if task is not me]
+        if not idle:
+            return False
+        _, task = min(idle, key=lambda pair: pair[0])
+        self._idle_since.pop(task, None)
+        writer = self._connections.get(task)
+        if writer is not None:
+            writer.transport.abort()
+        self.counts["evicted"] += 1
+        return True
 
     async def _read_line(
         self, reader: asyncio.StreamReader, writer: asyncio.StreamWriter, *, first: bool

@@ -435,7 +435,11 @@ def _valid_for_seconds(value: Any) -> float | None:
         return None
     if isinstance(value, bool) or not isinstance(value, int | float):
         raise BadRequest(f'"for_seconds" must be a number of seconds or null, got {_json_kind(value)}')
-    seconds = float(value)
+    try:
+        seconds = float(value)
+    except OverflowError:  # an integer of hundreds of digits
+        raise BadRequest(f'"for_seconds" is far too large: {_show(value)}; the longest timed mute is '
+                         f"{MAX_MUTE_SECONDS:g} s (one year); send null to mute until unmuted") from None
     if not math.isfinite(seconds) or seconds <= 0:
         raise BadRequest(f'"for_seconds" must be more than 0 (null mutes until unmuted), got {_show(value)}')
     if seconds > MAX_MUTE_SECONDS:

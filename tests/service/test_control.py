@@ -16,6 +16,7 @@ import pytest
 
 from siderod.common.errors import ControlError, ServiceNotRunning, SiderodError
 from siderod.service.control import (
+    MAX_CONNECTIONS,
     ControlServer,
     ServiceAlreadyRunning,
     UnsafeSocketPlace,
@@ -37,9 +38,12 @@ class FakeService:
     def __init__(self) -> None:
         self.requests: list[Request] = []
         self.muted: dict[str, float | None] = {}
+        self.hold: asyncio.Event | None = None  # when set, each request waits for it
 
     async def handle_request(self, request: Request) -> dict:
         self.requests.append(request)
+        if self.hold is not None:
+            await self.hold.wait()
         if request.op == Op.STATUS:
             return {"uptime_seconds": 12.5, "muted": sorted(self.muted)}
         if request.op == Op.MUTE:
@@ -179,12 +183,18 @@ async def test_idle_kept_open_connection_is_closed_quietly(run_dir, service):
 
 
 async def test_too_many_connections_are_told_busy(run_dir, service):
+    """Busy only when every slot is in the middle of a request (an idle one gives up its slot)."""
     async with make_server(run_dir, service, max_connections=1) as server:
         reader, writer = await asyncio.open_unix_connection(os.fspath(server.socket_path))
+        service.hold = asyncio.Event()
         writer.write(b'{"op": "status"}\n')
-        assert json.loads(await reader.readline())["ok"]  # the first connection is being served
+        await writer.drain()
+        while not service.requests:  # the first connection is being served
+            await asyncio.sleep(0.001)
         with pytest.raises(ControlError, match="busy"):
             await ask(server.socket_path, {"op": "status"})
+        service.hold.set()
+        assert json.loads(await reader.readline())["ok"]
         writer.close()
         await writer.wait_closed()
 
@@ -351,3 +361,34 @@ async def test_other_user_is_refused_by_peer_credentials_even_if_permissions_are
         assert await ask(server.socket_path, {"op": "status"})
     assert outcome.startswith("ControlError") and "belongs to another user" in outcome
     assert service.requests == [Request(Op.STATUS)]
+
+
+async def test_an_integer_of_hundreds_of_digits_gets_an_error_reply(run_dir, service):
+    """Issue 14 item 9: such a number overflowed float() inside the handler: no reply at all."""
+    async with make_server(run_dir, service) as server:
+        huge = "1" + "0" * 400
+        replies = await raw_exchange(
+            server.socket_path,
+            b'{"op": "mute", "target": "Demo Pair C", "for_seconds": ' + huge.encode() + b"}\n"
+            b'{"op": "mute", "target": "Demo Pair C", "for_seconds": -' + huge.encode() + b"}\n"
+            b'{"op": "status"}\n',
+            half_close=True,
+        )
+    assert [r["ok"] for r in replies] == [False, False, True]
+    assert "for_seconds" in replies[0]["error"] and "for_seconds" in replies[1]["error"]
+
+
+async def test_status_is_answered_while_idle_clients_hold_every_slot(run_dir, service):
+    """Issue 14 item 10: clients that connect and wait held all slots; status got "busy"."""
+    async with make_server(run_dir, service) as server:
+        path = os.fspath(server.socket_path)
+        held = [await asyncio.open_unix_connection(path) for _ in range(MAX_CONNECTIONS)]
+        for reader, writer in held[:4]:  # some have asked once and keep the connection open
+            writer.write(b'{"op": "status"}\n')
+            assert json.loads(await reader.readline())["ok"]
+        await asyncio.sleep(0.01)
+        assert await ask(server.socket_path, {"op": "status"})
+        assert await ask(server.socket_path, {"op": "status"})
+        for _, writer in held:
+            writer.close()
+        await asyncio.gather(*(w.wait_closed() for _, w in held), return_exceptions=True)
