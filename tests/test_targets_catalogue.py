@@ -55,3 +55,18 @@ def test_a_half_given_place_is_not_filled_from_the_catalogue():
 def test_other_frames_still_need_their_coordinates():
     errors = _errors('[[target]]\nname = "M31"\nframe = "galactic"\n')
     assert [e.key for e in errors] == ["target[1].l", "target[1].b"]
+
+
+def test_demo_targets_named_only_have_events_and_alerts(demo_config):
+    from conftest import DEMO_NIGHT_UTC
+
+    from siderod.common.model import EventKind
+    from siderod.plan.agenda import compute_agenda
+
+    named = {t.name for t in demo_config.targets if t.catalogue_entry}
+    assert named == {"M42", "M31", "M45", "North America", "Crab Nebula"}
+    agenda = compute_agenda(demo_config, DEMO_NIGHT_UTC, 24.0)
+    culminating = {e.target for e in agenda.events if e.kind is EventKind.CULMINATION}
+    assert named <= culminating
+    flips = {e.target for e in agenda.events if e.kind is EventKind.FLIP_DUE}
+    assert {"M42", "M45", "Crab Nebula"} <= flips  # flip-due alerts are configured in the demo

@@ -40,6 +40,7 @@ _VERB_MODULES = (
     "siderod.cli.control",
     "siderod.cli.seek",
     "siderod.cli.shortlist",
+    "siderod.cli.enlist",
     "siderod.cli.check",
     "siderod.cli.unit",
 )
