@@ -111,6 +111,18 @@ def format_summary(config: Any, how_found: str) -> str:
         timeout = config.notify.command_timeout_seconds
         channels.append(f"command {config.notify.command[0]!r} (timeout {timeout:g} s)")
     lines.append(f"notify: {', '.join(channels)}")
+    for push in config.notify.push:
+        kinds = "every kind" if push.kinds is None else ", ".join(sorted(k.value for k in push.kinds))
+        # Only the masked form: the URL itself holds tokens and passwords.
+        lines.append(f"  push {push.name}: {push.masked_url} (from {push.source}; "
+                     f"{push.min_urgency.value} and up; {kinds})")
+    if config.notify.push:
+        lines.append("  push URLs checked; nothing was sent (`siderod test-alert` sends one to each)")
+    if alerts.repeat_minutes > 0:
+        sound = config.notify.desktop and config.notify.critical_sound
+        lines.append(f"critical alerts repeat every {alerts.repeat_minutes:g} min until acknowledged "
+                     f"(`siderod ack`), at most {alerts.repeat_count} times where no next stage ends them"
+                     + ("; the desktop plays a sound" if sound else ""))
     if mount.kind is MountKind.GERMAN_EQUATORIAL and EventKind.FLIP_DUE not in alerts.lead_minutes:
         lines.append("caution: a German equatorial mount with no flip-due alert: a missed flip can drive "
                      "the mount into its pier. Add flip-due = [10, 0] under [alerts.lead].")

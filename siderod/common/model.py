@@ -25,6 +25,7 @@ __all__ = [
     "MountLink",
     "AlertRules",
     "NotifySettings",
+    "PushDestination",
     "ViewSettings",
     "TimeSettings",
     "Config",
@@ -120,6 +121,14 @@ class Urgency(enum.Enum):
     LOW = "low"
     NORMAL = "normal"
     CRITICAL = "critical"
+
+    @property
+    def rank(self) -> int:
+        """0 for low, 1 for normal, 2 for critical: compare urgencies with it."""
+        return _URGENCY_RANK[self.value]
+
+
+_URGENCY_RANK = {"low": 0, "normal": 1, "critical": 2}
 
 
 @dataclass(frozen=True, slots=True)
@@ -256,6 +265,30 @@ class AlertRules:
     # Target alerts are held while the target is closer than this to the Sun (degrees): never point
     # unfiltered optics at or near the Sun.
     sun_separation_min_deg: float = 10.0
+    # Critical alerts insist: repeated every ``repeat_minutes`` (0: never) from their due time
+    # until acknowledged or the next stage (see siderod.plan.insist); at most ``repeat_count``
+    # repeats where there is no next stage.
+    repeat_minutes: float = 2.0
+    repeat_count: int = 10
+
+
+@dataclass(frozen=True, slots=True)
+class PushDestination:
+    """One ``[[notify.push]]`` destination: an apprise URL and which alerts it takes.
+
+    ``url`` carries secrets (tokens, passwords): it is left out of ``repr`` and must never be
+    printed or logged; ``masked_url`` is apprise's own privacy form of it, safe to show.
+    ``kinds`` None means every kind (service messages such as a missed-alert summary included);
+    otherwise only alerts of those kinds, and no service messages.
+    """
+
+    name: str
+    url: str = field(repr=False)
+    masked_url: str
+    min_urgency: Urgency = Urgency.NORMAL
+    kinds: frozenset[EventKind] | None = None
+    source: str = ""  # where the URL came from, for messages: "secrets.toml:3", "$NAME", "config.toml:12"
+    timeout_seconds: float = 10.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -266,6 +299,8 @@ class NotifySettings:
     command: tuple[str, ...] = ()  # argv with {placeholders}; empty: no command hook
     command_timeout_seconds: float = 10.0
     send_timeout_seconds: float = 5.0
+    push: tuple[PushDestination, ...] = ()
+    critical_sound: bool = True  # the desktop notification of a critical alert plays a sound
 
 
 @dataclass(frozen=True, slots=True)
