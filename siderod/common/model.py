@@ -378,6 +378,7 @@ class PlannedAlert:
     urgency: Urgency
     title: str
     body: str
+    repeat_number: int = 0  # 0: a configured alert; n: the n-th repeat of a critical one (plan.insist)
 
 
 @dataclass(frozen=True, slots=True)

@@ -7,7 +7,7 @@ and, when the Sun hold is configured, a function giving the Sun's altitude.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections.abc import Callable, Collection, Iterable, Mapping, Sequence
 from datetime import UTC, datetime, timedelta
 from typing import Protocol
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
@@ -24,6 +24,7 @@ from siderod.common.model import (
 
 __all__ = [
     "plan_alerts",
+    "plan_repeats",
     "alert_key",
     "parse_alert_key",
     "format_alert",
@@ -134,6 +135,82 @@ def plan_alerts(
             body=body,
         )
     return tuple(sorted(planned.values(), key=lambda a: (a.due_utc, a.key)))
+
+
+def plan_repeats(
+    agenda: _AgendaLike,
+    config: Config,
+    *,
+    muted: Mapping[str, datetime | None],
+    now_utc: datetime,
+    acknowledged: Collection[str] = frozenset(),
+    sun_altitude_deg: Callable[[Sequence[datetime]], Sequence[float]] | None = None,
+) -> tuple[PlannedAlert, ...]:
+    """The repeats of every unacknowledged critical event in the agenda (see ``plan.insist``).
+
+    Args:
+        agenda, config, muted, now_utc, sun_altitude_deg: as for :func:`plan_alerts`; a repeat is
+            muted, held by the Sun and dropped past its grace exactly like a configured alert.
+        acknowledged: event ids (``insist.event_id`` of a key) that get no more repeats.
+
+    Returns:
+        One PlannedAlert per repeat, its own key made from the event and the repeat's lead
+        (negative after the event), sorted by due time then key. A flip-due event's next stage
+        is the first tracking-limit alert (or, without one, the limit itself) of the same target
+        at or after the flip.
+    """
+    from siderod.plan.insist import event_id, format_repeat, repeat_times
+
+    rules = config.alerts
+    if rules.repeat_minutes <= 0:
+        return ()
+    earliest_due_utc = now_utc - timedelta(minutes=rules.grace_minutes)
+    targets = {t.name: t for t in config.targets}
+    # Every configured alert's due time, grace or not: a repeat can be owed long after the
+    # alert that started its series has dropped out of the plan.
+    groups: dict[str, tuple[Event, list[datetime]]] = {}
+    limits: dict[str, list[datetime]] = {}
+    for event in agenda.events:
+        leads = _lead_minutes_for(event, targets, rules.lead_minutes)
+        if event.kind is EventKind.TRACKING_LIMIT and event.target is not None:
+            dues = [event.time_utc - timedelta(minutes=lead) for lead in leads] or [event.time_utc]
+            limits.setdefault(event.target, []).append(min(dues))
+        if not leads or _urgency(rules, event.kind) is not Urgency.CRITICAL:
+            continue
+        key = event_id(alert_key(event, 0.0))
+        if key in acknowledged:
+            continue
+        _, dues = groups.setdefault(key, (event, []))
+        dues.extend(event.time_utc - timedelta(minutes=lead) for lead in leads)
+    candidates: dict[str, tuple[Event, float, datetime, int]] = {}
+    for event, dues in groups.values():
+        next_stage_utc = None
+        if event.kind is EventKind.FLIP_DUE and event.target is not None:
+            later = [t for t in limits.get(event.target, ()) if t >= event.time_utc]
+            next_stage_utc = min(later) if later else None
+        mute_name = event.target if event.target is not None else SKY_TARGET_NAME
+        times = repeat_times(dues, repeat_minutes=rules.repeat_minutes, repeat_count=rules.repeat_count,
+                             next_stage_utc=next_stage_utc)
+        for number, due_utc in enumerate(times, start=1):
+            if due_utc < earliest_due_utc or _is_muted(muted, mute_name, due_utc, now_utc):
+                continue
+            lead = round((event.time_utc - due_utc).total_seconds() / 60.0, 6)
+            candidates.setdefault(alert_key(event, lead), (event, lead, due_utc, number))
+    held = _held_by_sun({k: v[:3] for k, v in candidates.items()}, rules.hold_while_sun_above_deg,
+                        sun_altitude_deg, held_kinds(rules))
+    repeats = []
+    for key, (event, lead, due_utc, number) in candidates.items():
+        if key in held:
+            continue
+        title, body = format_alert(event, max(lead, 0.0), config.site)
+        title, body = format_repeat(title, body, number, rules.repeat_minutes)
+        repeats.append(PlannedAlert(key=key, event=event, lead_minutes=float(lead), due_utc=due_utc,
+                                    urgency=Urgency.CRITICAL, title=title, body=body, repeat_number=number))
+    return tuple(sorted(repeats, key=lambda a: (a.due_utc, a.key)))
+
+
+def _urgency(rules: AlertRules, kind: EventKind) -> Urgency:
+    return rules.urgency.get(kind, DEFAULT_URGENCY.get(kind, Urgency.NORMAL))
 
 
 def _held_by_sun(
