@@ -1,4 +1,4 @@
-"""`siderod status|mute|unmute|reload|test-alert`: talk to the running service over its control socket."""
+"""`siderod status|mute|unmute|reload|test-alert|acknowledge`: talk to the running service over its socket."""
 
 from __future__ import annotations
 
@@ -28,13 +28,15 @@ EXIT_REFUSED = EXIT_BAD_INPUT
 
 # How long each verb waits for the service. test-alert waits for every channel to finish (each
 # bounded by its own timeout); reload parses and validates the whole configuration.
-_TIMEOUT_SECONDS = {"status": 3.0, "mute": 3.0, "unmute": 3.0, "reload": 20.0, "test-alert": 30.0}
+# ack re-plans without the acknowledged repeats, as mute does.
+_TIMEOUT_SECONDS = {"status": 3.0, "mute": 3.0, "unmute": 3.0, "reload": 20.0, "test-alert": 60.0,
+                    "ack": 20.0}
 
 _DURATION_RE = re.compile(r"(?:(\d+)d)?(?:(\d+)h)?(?:(\d+)m)?(?:(\d+)s)?")
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:
-    """Add the five control verbs: status, mute, unmute, reload, test-alert."""
+    """Add the control verbs: status, mute, unmute, reload, test-alert, acknowledge (alias ack)."""
     socket_help = "the service's control socket (default: $XDG_RUNTIME_DIR/siderod/control.sock)"
 
     status = subparsers.add_parser(
@@ -60,9 +62,19 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     )
     test_alert = subparsers.add_parser(
         "test-alert", help="send one test alert through every channel and report each result",
+        description="Send one test message through every channel, each push destination included "
+        "(whatever its urgency and kind filters), and print each one's result.",
     )
+    ack = subparsers.add_parser(
+        "acknowledge", aliases=["ack"], help="stop a critical alert repeating (short form: ack)",
+        description="Acknowledge the critical alerts that are repeating: they stop repeating, on every "
+        "channel. Without TARGET, every one that has been given and not yet acknowledged.",
+    )
+    ack.add_argument("target", metavar="TARGET", nargs="?",
+                     help="only this target's alerts (default: all of them)")
     for verb, parser in (
-        ("status", status), ("mute", mute), ("unmute", unmute), ("reload", reload), ("test-alert", test_alert)
+        ("status", status), ("mute", mute), ("unmute", unmute), ("reload", reload),
+        ("test-alert", test_alert), ("ack", ack),
     ):
         parser.add_argument("--socket", metavar="PATH", help=socket_help)
         parser.set_defaults(func=run, control_verb=verb)
@@ -79,6 +91,8 @@ def run(args: argparse.Namespace) -> int:
     if verb == "mute":
         request.update(target=args.target, for_seconds=args.for_seconds)
     elif verb == "unmute":
+        request["target"] = args.target
+    elif verb == "ack" and args.target:
         request["target"] = args.target
     try:
         result = request_once(_socket_path(args), request, timeout_seconds=_TIMEOUT_SECONDS[verb])
@@ -241,6 +255,17 @@ def _report_result(verb: str, args: argparse.Namespace, result: dict[str, Any]) 
     elif verb == "unmute":
         target = result.get("target") or args.target
         print(f"{target} was not muted" if result.get("was_muted") is False else f"unmuted {target}")
+    elif verb == "ack":
+        events = result.get("acknowledged")
+        events = [str(e) for e in events] if isinstance(events, list) else []
+        if not events:
+            which = f" for {args.target}" if args.target else ""
+            print(f"nothing to acknowledge{which}: no critical alert is repeating")
+        else:
+            print(f"acknowledged {len(events)} alert{'s' if len(events) != 1 else ''}; "
+                  "they repeat no more:")
+            for event in events:
+                print(f"  {event}")
     elif verb == "reload":
         if result.get("reloaded") is False:
             error = result.get("error") or "the configuration is invalid"

@@ -74,6 +74,7 @@ class Op(enum.StrEnum):
     RELOAD = "reload"
     TEST_ALERT = "test-alert"
     USE = "use"  # set the target in use (null target: none)
+    ACK = "ack"
 
 
 # The fields each op takes besides "op", with whether each one is required.
@@ -84,6 +85,7 @@ _OP_FIELDS: dict[Op, dict[str, bool]] = {
     Op.RELOAD: {},
     Op.TEST_ALERT: {},
     Op.USE: {"target": True},
+    Op.ACK: {"target": False},  # no target (or null): every critical alert still repeating
 }
 
 
@@ -93,7 +95,7 @@ class Request:
 
     Attributes:
         op: what to do. A ``StrEnum``, so ``request.op == "mute"`` also works.
-        target: the target name (``mute`` and ``unmute`` only), else None.
+        target: the target name (``mute`` and ``unmute``; optional for ``ack``), else None.
         for_seconds: how long to mute, seconds > 0; None means until unmuted (``mute`` only).
     """
 
@@ -163,7 +165,8 @@ def request_from_json(data: Any) -> Request:
     if missing:
         raise BadRequest(f'"{op}" request needs "{missing[0]}"')
     target = None
-    if "target" in fields and not (op is Op.USE and data["target"] is None):
+    # "use" and "ack" take a null target ("none" and "every one"); mute and unmute need a name.
+    if "target" in data and not (op in (Op.USE, Op.ACK) and data["target"] is None):
         target = _valid_target(data["target"])
     for_seconds = _valid_for_seconds(data.get("for_seconds")) if op is Op.MUTE else None
     return Request(op=op, target=target, for_seconds=for_seconds)

@@ -448,9 +448,15 @@ def _warning_lines(inputs: BoardInputs, width: int) -> list[Text]:
                                 "UTC after that is a guess; update siderod"))
     if snapshot is not None:
         for channel in snapshot.channels:
-            if not channel.healthy and channel.name.startswith("desktop"):
-                why = f": {channel.last_error}" if channel.last_error else ""
+            if channel.healthy:
+                continue
+            why = f": {channel.last_error}" if channel.last_error else ""
+            if channel.name.startswith("desktop"):
                 out.append(_warn(width, f"desktop notifications failing{why} (alerts still reach the log)"))
+            elif channel.name.startswith("push:"):
+                # The error text is already masked by the push channel: no secret reaches the board.
+                out.append(_warn(width, f"push destination {channel.name[5:]} failing{why} (retried "
+                                        "within grace; other channels still deliver)"))
         if snapshot.config_error:
             out.append(_warn(width, f"reload failed, last good configuration kept: {snapshot.config_error}"))
     for notice in inputs.notices:

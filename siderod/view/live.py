@@ -11,7 +11,8 @@ import asyncio
 import inspect
 import logging
 import math
-from collections.abc import Awaitable, Callable, Iterator
+import sys
+from collections.abc import Awaitable, Callable, Iterator, Mapping
 from contextlib import contextmanager
 from dataclasses import replace
 from datetime import date, datetime, timedelta
@@ -25,7 +26,7 @@ from siderod.common.clock import Clock
 from siderod.common.model import ClockHealth, Config, PlannedAlert, ServiceSnapshot
 from siderod.view.board import BoardInputs, compose_board, render_clock
 
-__all__ = ["MAX_REFRESH_HZ", "BoardFeed", "run_live", "log_to_console"]
+__all__ = ["MAX_REFRESH_HZ", "BoardFeed", "run_live", "log_to_console", "read_keys"]
 
 #: Faster than this is pointless for a clock showing tenths of a second, and costs CPU over SSH.
 MAX_REFRESH_HZ = 10.0
@@ -45,6 +46,8 @@ async def run_live(
     *,
     stop: asyncio.Event | None = None,
     capture_logging: bool = True,
+    keys: Mapping[str, Callable[[], Any]] | None = None,
+    key_fd: int | None = None,
 ) -> None:
     """Show the board on ``console`` until ``stop`` is set or the task is cancelled (Ctrl-C).
 
@@ -57,6 +60,8 @@ async def run_live(
         stop: set it to end the view; None runs until cancelled.
         capture_logging: while the view runs, send log records through a ``RichHandler`` on
             ``console`` instead of stream handlers that would garble the screen.
+        keys: one-key actions, by lower-case key (``{"a": acknowledge}``); an action may return an
+            awaitable. Read from ``key_fd`` (standard input when None) only if it is a terminal.
 
     Raises:
         ValueError: ``refresh_hz`` outside (0, 10].
@@ -70,7 +75,8 @@ async def run_live(
     stop = stop or asyncio.Event()
     handler_scope = log_to_console(console) if capture_logging else _nothing()
     live = Live(console=console, auto_refresh=False, transient=False, vertical_overflow="crop")
-    with handler_scope, live:
+    key_scope = read_keys(sys.stdin.fileno() if key_fd is None else key_fd, keys) if keys else _nothing()
+    with handler_scope, live, key_scope:
         cached: _Cached | None = None
         size = None
         while not stop.is_set():
@@ -268,6 +274,58 @@ def log_to_console(console: Console) -> Iterator[logging.Handler]:
 
 
 # -- helpers, in the order they are called ---------------------------------------------------------
+
+
+@contextmanager
+def read_keys(fd: int, keys: Mapping[str, Callable[[], Any]]) -> Iterator[None]:
+    """While the block runs, call ``keys[key]()`` for each key typed on the terminal ``fd``.
+
+    The terminal is put in cbreak mode (keys arrive one by one, not echoed; Ctrl-C still stops)
+    and restored on the way out. Keys are matched case-blind; others are ignored. A file that is
+    not a terminal (a pipe, /dev/null under systemd) is not read at all. Needs a running loop.
+    """
+    import os
+    import termios
+    import tty
+
+    if not os.isatty(fd):
+        yield
+        return
+    loop = asyncio.get_running_loop()
+    saved = termios.tcgetattr(fd)
+    tty.setcbreak(fd)
+    tasks: set[asyncio.Task[Any]] = set()
+
+    def readable() -> None:
+        try:
+            data = os.read(fd, 64)
+        except OSError:
+            return
+        for char in data.decode("utf-8", "ignore").lower():
+            action = keys.get(char)
+            if action is None:
+                continue
+            result = action()
+            if inspect.isawaitable(result):
+                task = asyncio.ensure_future(result)
+                tasks.add(task)
+                task.add_done_callback(_key_action_done(tasks))
+
+    loop.add_reader(fd, readable)
+    try:
+        yield
+    finally:
+        loop.remove_reader(fd)
+        termios.tcsetattr(fd, termios.TCSADRAIN, saved)
+
+
+def _key_action_done(tasks: set[asyncio.Task[Any]]) -> Callable[[asyncio.Task[Any]], None]:
+    def done(task: asyncio.Task[Any]) -> None:
+        tasks.discard(task)
+        if not task.cancelled() and task.exception() is not None:
+            _log.warning("that key's action failed: %s", task.exception())
+
+    return done
 
 
 @contextmanager

@@ -261,7 +261,9 @@ def test_every_warning_is_spelled_out():
         sky=replace_sky(sun_sep=[12.0, 90, 90, 90, 90], sun_alt=5.0),
         snapshot=snapshot(
             clock_health=ClockHealth("unsynchronised", None, 0.8),
-            channels=(ChannelHealth("desktop", False, "no notification server"),),
+            channels=(ChannelHealth("desktop", False, "no notification server"),
+                      ChannelHealth("push:phone", False,
+                                    "ntfys://t...n@push.example.org/scope did not answer")),
             config_error="targets.toml:4: target[1].ra: expected an angle",
         ),
         leap_known_good_until=date(2026, 6, 28),
@@ -272,6 +274,7 @@ def test_every_warning_is_spelled_out():
     assert "system clock is not synchronised (the kernel allows an error of up to 800.0 ms)" in text
     assert "leap-second table known good only to 2026-06-28" in text
     assert "desktop notifications failing: no notification server" in text
+    assert "push destination phone failing: ntfys://t...n@push.example.org/scope did not answer" in text
     assert "reload failed, last good configuration kept: targets.toml:4" in text
     assert "the service stopped answering" in text
 

@@ -109,3 +109,38 @@ async def test_feed_says_when_the_service_stops_answering():
     assert inputs.snapshot is None
     assert any("stopped answering" in n for n in inputs.notices)
     assert inputs.source == ""  # the title then says the board is computed here
+
+
+async def test_one_key_actions_are_read_from_a_real_terminal():
+    import os
+    import termios
+
+    from siderod.view.live import read_keys
+
+    main_fd, terminal_fd = os.openpty()
+    before = termios.tcgetattr(terminal_fd)
+    pressed: list[str] = []
+
+    async def acknowledge():
+        pressed.append("ack")
+
+    try:
+        with read_keys(terminal_fd, {"a": acknowledge}):
+            assert not termios.tcgetattr(terminal_fd)[3] & termios.ECHO  # cbreak: keys are not echoed
+            os.write(main_fd, b"xA")  # an unbound key, then the ack key typed with shift
+            for _ in range(400):  # real terminal I/O: bounded wait for the loop to read it
+                if pressed:
+                    break
+                await asyncio.sleep(0.005)
+        assert pressed == ["ack"]
+        assert termios.tcgetattr(terminal_fd) == before  # the terminal is given back as it was
+    finally:
+        os.close(main_fd)
+        os.close(terminal_fd)
+
+
+async def test_keys_are_not_read_from_something_that_is_not_a_terminal(tmp_path):
+    from siderod.view.live import read_keys
+
+    with open(tmp_path / "not-a-tty", "w+") as f, read_keys(f.fileno(), {"a": lambda: None}):
+        pass  # no termios call on a plain file, no reader added
