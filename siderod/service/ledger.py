@@ -363,6 +363,7 @@ class Ledger:
             ).rowcount
             self._db.execute("DELETE FROM deliveries WHERE delivered_unix < ?", (cutoff,))
             self._db.execute("DELETE FROM owed WHERE state != 'owed' AND updated_unix < ?", (cutoff,))
+            self._db.execute("DELETE FROM acks WHERE acked_unix < ?", (cutoff,))
         return n
 
     # -- mutes (kept here so a restart remembers them) -------------------------------------
@@ -410,6 +411,37 @@ class Ledger:
             self.set_in_use(None)
             return None
         return target, source, until_utc
+    # -- acknowledgements of critical alerts (plan.insist) -----------------------------------
+    def acknowledge(self, event_ids: Iterable[str], now_utc: datetime, via: str) -> tuple[str, ...]:
+        """Record that the user acknowledged these events; return the ones not acknowledged before.
+
+        Args:
+            event_ids: ``plan.insist.event_id`` of an alert key (``target|kind|time``).
+            via: how ("command", "board", "desktop"), for the log and status.
+        """
+        fresh = []
+        with self._transaction():
+            for event in dict.fromkeys(event_ids):
+                cursor = self._db.execute(
+                    "INSERT OR IGNORE INTO acks(event, acked_unix, via) VALUES (?, ?, ?)",
+                    (event, now_utc.timestamp(), via),
+                )
+                if cursor.rowcount == 1:
+                    fresh.append(event)
+        return tuple(fresh)
+
+    def acknowledged(self) -> frozenset[str]:
+        """Every acknowledged event id (kept as long as the ledger keeps alerts)."""
+        return frozenset(r[0] for r in self._db.execute("SELECT event FROM acks"))
+
+    def given(self, event_id: str) -> bool:
+        """Whether any alert of the event has been claimed for sending (it has started to insist)."""
+        prefix = event_id + "|"
+        row = self._db.execute(
+            "SELECT 1 FROM alerts WHERE substr(key, 1, ?) = ? AND state IN ('sending', 'delivered') LIMIT 1",
+            (len(prefix), prefix),
+        ).fetchone()
+        return row is not None
 
     # -- helpers ---------------------------------------------------------------------------
     def _transaction(self) -> _Transaction:
@@ -534,4 +566,5 @@ CREATE TABLE IF NOT EXISTS owed (
     PRIMARY KEY (key, channel)
 );
 CREATE INDEX IF NOT EXISTS owed_state ON owed(state, channel);
+CREATE TABLE IF NOT EXISTS acks (event TEXT PRIMARY KEY, acked_unix REAL NOT NULL, via TEXT NOT NULL);
 """
