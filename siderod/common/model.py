@@ -473,3 +473,5 @@ class ServiceSnapshot:
     planned_count: int = 0
     clock_tolerance_seconds: float = 1.0  # from [time] clock_tolerance
     mount: MountView = field(default_factory=MountView)
+    # Event ids (target|kind|time) of critical alerts given and repeating until acknowledged.
+    awaiting_ack: tuple[str, ...] = ()

@@ -25,6 +25,7 @@ from siderod.common.model import (
 __all__ = [
     "plan_alerts",
     "plan_repeats",
+    "repeat_lookback_minutes",
     "alert_key",
     "parse_alert_key",
     "format_alert",
@@ -207,6 +208,26 @@ def plan_repeats(
         repeats.append(PlannedAlert(key=key, event=event, lead_minutes=float(lead), due_utc=due_utc,
                                     urgency=Urgency.CRITICAL, title=title, body=body, repeat_number=number))
     return tuple(sorted(repeats, key=lambda a: (a.due_utc, a.key)))
+
+
+def repeat_lookback_minutes(config: Config) -> float:
+    """How far before ``now - grace`` an agenda must start so that no owed repeat is forgotten.
+
+    A repeat can fall long after its event: up to ``repeat_count`` periods after the last
+    configured alert, or until a flip's tracking limit. An agenda that starts later than the
+    event no longer yields its repeats, and a re-plan would drop them.
+    """
+    from siderod.plan.insist import MAX_REPEATS
+
+    rules = config.alerts
+    if rules.repeat_minutes <= 0:
+        return 0.0
+    counted = rules.repeat_minutes * (rules.repeat_count + 1)
+    flip_to_limit = max(0.0, config.mount.limit_after_minutes - config.mount.flip_after_minutes)
+    # A configured alert after its event (a negative lead) starts the count that much later.
+    latest_after = max((-min(leads, default=0.0) for leads in rules.lead_minutes.values()), default=0.0)
+    span = max(counted, flip_to_limit + rules.repeat_minutes) + max(0.0, latest_after)
+    return min(span, rules.repeat_minutes * (MAX_REPEATS + 1) + max(0.0, latest_after))
 
 
 def _urgency(rules: AlertRules, kind: EventKind) -> Urgency:

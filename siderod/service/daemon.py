@@ -41,7 +41,14 @@ from siderod.common.model import (
     ServiceSnapshot,
     Urgency,
 )
-from siderod.plan.planner import SKY_TARGET_NAME, format_missed_summary, plan_alerts
+from siderod.plan.insist import event_id
+from siderod.plan.planner import (
+    SKY_TARGET_NAME,
+    format_missed_summary,
+    plan_alerts,
+    plan_repeats,
+    repeat_lookback_minutes,
+)
 from siderod.service.anomaly import ClockAnomaly, ClockWatch
 from siderod.service.delivery import (
     AlertMessage,
@@ -51,6 +58,7 @@ from siderod.service.delivery import (
     ChannelWorker,
     OwedDelivery,
     build_channels,
+    channel_accepts,
 )
 from siderod.service.ledger import Ledger, LedgerRow
 from siderod.service.scheduling import Scheduler, SchedulerFactory
@@ -164,6 +172,7 @@ class Service:
         self._workers: dict[str, ChannelWorker] = {}
         self._worker_tasks: dict[str, asyncio.Task[None]] = {}
         self._worker_failed: asyncio.Future[None] | None = None
+        self._background: set[asyncio.Task[Any]] = set()
         self._plan_lock = asyncio.Lock()
         self._stop = asyncio.Event()
         self._reload_asked = asyncio.Event()
@@ -186,8 +195,7 @@ class Service:
         self.started_utc = self._clock.now_utc()
         self.config = self._config_loader()  # invalid at start: raise, nothing else to fall back on
         self._sun_altitude = self._sun_altitude_override or _sun_altitude_function(self.config)
-        fixed = self._fixed_channels
-        self._channels = fixed if fixed is not None else build_channels(self.config)
+        self._channels = self._build_channels(self.config)
         loop = asyncio.get_running_loop()
         async with contextlib.AsyncExitStack() as stack:
             if self._control_wanted:
@@ -302,8 +310,11 @@ class Service:
             target = None if request.target is None else self._known_target(request.target)
             await self._mount.use(target, "command")
             return {"target": target}
+        if op == "ack":
+            target = None if request.target is None else self._known_target(request.target)
+            return {"acknowledged": list(await self.acknowledge(target=target, via="command"))}
         raise ControlError(
-            f"unknown request {op!r}; expected status, mute, unmute, reload, test-alert or use"
+            f"unknown request {op!r}; expected status, mute, unmute, reload, test-alert, use or ack"
         )
 
     def snapshot(self) -> ServiceSnapshot:
@@ -333,7 +344,53 @@ class Service:
             planned_count=len(self._plan),
             clock_tolerance_seconds=self.config.time.clock_tolerance_seconds,
             mount=self._mount.view(),
+            awaiting_ack=self.awaiting_acknowledgement(),
         )
+
+    def awaiting_acknowledgement(self) -> tuple[str, ...]:
+        """Event ids of critical alerts that have been given and will repeat until acknowledged."""
+        assert self._ledger is not None
+        pending = {event_id(a.key) for a in self._plan.values() if a.repeat_number > 0}
+        return tuple(sorted(e for e in pending if self._ledger.given(e)))
+
+    async def acknowledge(self, *, target: str | None = None, events: Sequence[str] | None = None,
+                          via: str) -> tuple[str, ...]:
+        """Stop critical alerts repeating: these ``events``, or every one awaiting acknowledgement
+        (only ``target``'s when given). Their repeats are taken out of the plan and any copy still
+        owed on a channel is dropped; configured alerts not yet due still come once each.
+
+        Returns:
+            The event ids newly acknowledged (an event acknowledged before is not repeated here).
+        """
+        assert self._ledger is not None
+        if events is None:
+            events = [e for e in self.awaiting_acknowledgement()
+                      if target is None or e.rsplit("|", 2)[0] == target]
+        now_utc = self._clock.now_utc()
+        fresh = self._ledger.acknowledge(events, now_utc, via)
+        if not fresh:
+            return ()
+        dropped = self._ledger.drop_owed_of_events(fresh, now_utc)
+        for worker in self._workers.values():
+            worker.drop(set(dropped))
+        log.info("acknowledged (%s): %s; their repeats stop", via, ", ".join(fresh))
+        await self.replan("acknowledged")
+        return fresh
+
+    def _acknowledge_from_desktop(self, key: str) -> None:
+        """The desktop's Acknowledge button (called from the D-Bus signal, on the loop)."""
+        task = asyncio.get_running_loop().create_task(
+            self.acknowledge(events=[event_id(key)], via="desktop"), name="acknowledge")
+        self._background.add(task)
+        task.add_done_callback(self._background.discard)
+
+    def _build_channels(self, config: Config) -> list[Channel]:
+        if self._fixed_channels is None:
+            return build_channels(config, on_acknowledge=self._acknowledge_from_desktop)
+        for channel in self._fixed_channels:
+            if getattr(channel, "on_acknowledge", False) is None:
+                channel.on_acknowledge = self._acknowledge_from_desktop  # type: ignore[attr-defined]
+        return list(self._fixed_channels)
 
     async def mute(self, target: str, until_utc: datetime | None) -> None:
         """Mute a target (``"sky"``: Sun, Moon and twilight alerts) until a time, or until unmuted."""
@@ -387,7 +444,7 @@ class Service:
             self._sun_altitude = _sun_altitude_function(new_config)
         if self._fixed_channels is None and (old_config is None or old_config.notify != new_config.notify):
             await self._stop_workers()
-            self._channels = build_channels(new_config)
+            self._channels = self._build_channels(new_config)
             self._start_workers()
         self._mount.update_config(new_config)
         log.info("configuration reloaded (%s) from %s", reason, new_config.path)
@@ -417,14 +474,22 @@ class Service:
             grace = timedelta(minutes=config.alerts.grace_minutes)
             for row in self._ledger.sweep_missed(now_utc - grace, now_utc):
                 self._note_missed(row.title, row.due_utc)
-            start_utc = now_utc - grace
-            hours = config.alerts.horizon_hours + grace.total_seconds() / 3600.0
+            # Early enough that an event whose repeats are still owed is in the agenda.
+            lookback = grace + timedelta(minutes=repeat_lookback_minutes(config))
+            start_utc = now_utc - lookback
+            hours = config.alerts.horizon_hours + lookback.total_seconds() / 3600.0
             agenda = await self._compute_agenda(config, start_utc, hours)
             self._mutes = self._ledger.mutes(now_utc)
             planned = plan_alerts(
                 agenda, config, muted=self._mutes, now_utc=now_utc, sun_altitude_deg=self._sun_altitude
             )
+            planned += plan_repeats(
+                agenda, config, muted=self._mutes, now_utc=now_utc, sun_altitude_deg=self._sun_altitude,
+                acknowledged=self._ledger.acknowledged(),
+            )
             planned = self._mount.adjust(planned, config)  # the target in use
+            # Only critical alerts insist: a repeat made less urgent by the target in use goes.
+            planned = tuple(a for a in planned if a.repeat_number == 0 or a.urgency is Urgency.CRITICAL)
             if self._catch_up_floor_utc is not None:
                 planned = tuple(a for a in planned if a.due_utc >= self._catch_up_floor_utc)
             now_utc = self._clock.now_utc()  # the agenda may have taken a while
@@ -477,12 +542,13 @@ class Service:
             del self._plan[key]
             self._note_missed(alert.title, alert.due_utc)
             return
-        names = list(self._workers)
+        message = _message_from_row(_row_from_alert(alert))
+        # A channel with a filter (a push destination's urgency and kinds) owes only what it takes.
+        names = [name for name, worker in self._workers.items() if channel_accepts(worker.channel, message)]
         if not self._ledger.claim(key, now_utc, names):
             self._plan.pop(key, None)
             return
         del self._plan[key]
-        message = _message_from_row(_row_from_alert(alert))
         give_up_utc = alert.due_utc + timedelta(seconds=grace_seconds)
         for name in names:
             self._workers[name].put(OwedDelivery(message, alert.due_utc, give_up_utc))
@@ -658,6 +724,8 @@ class Service:
         tries: list[asyncio.Future[bool]] = []
         loop = asyncio.get_running_loop()
         for name, worker in self._workers.items():
+            if not channel_accepts(worker.channel, message):
+                continue
             if self._health.is_healthy(name) or name == "log":
                 tried: asyncio.Future[bool] = loop.create_future()
                 worker.put(OwedDelivery(message, now_utc, ledger=False, tried=tried))

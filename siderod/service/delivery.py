@@ -18,7 +18,7 @@ import logging
 import os
 import signal
 import string
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Collection, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from datetime import datetime
 from typing import Any, Protocol
@@ -27,6 +27,9 @@ from zoneinfo import ZoneInfo
 from siderod.common.model import COMMAND_PLACEHOLDERS, ChannelHealth, Config, PlannedAlert, Urgency
 
 __all__ = [
+    "ACKNOWLEDGE_BUTTON",
+    "CRITICAL_SOUND_NAME",
+    "channel_accepts",
     "Channel",
     "ChannelFailed",
     "AlertMessage",
@@ -44,6 +47,12 @@ __all__ = [
 ]
 
 log = logging.getLogger("siderod.delivery")
+
+#: The label of the button on a critical desktop notification that acknowledges it.
+ACKNOWLEDGE_BUTTON = "Acknowledge"
+#: The freedesktop sound-theme name played with a critical desktop notification (an alarm that
+#: has gone off; desktops without that sound fall back to their own).
+CRITICAL_SOUND_NAME = "alarm-clock-elapsed"
 alert_log = logging.getLogger("siderod.alert")
 
 
@@ -137,20 +146,29 @@ class DesktopChannel:
     notification server. So each send is bounded by ``send_timeout_seconds``, success means
     ``on_dispatched`` fired, and after any failure the notifier is closed and rebuilt.
 
+    A critical alert (one with an event kind) carries an Acknowledge button when
+    ``on_acknowledge`` is given, and plays a sound unless ``critical_sound`` is False. The button
+    works as long as this notifier stays connected: its press comes back as a D-Bus signal.
+
     Args:
         app_name: the application name the notification server shows.
         send_timeout_seconds: the longest one send may take.
+        critical_sound: play :data:`CRITICAL_SOUND_NAME` with a critical alert.
+        on_acknowledge: called with the alert's key when its Acknowledge button is pressed.
     """
 
     name = "desktop"
 
-    def __init__(self, *, app_name: str = "siderod", send_timeout_seconds: float = 5.0) -> None:
+    def __init__(self, *, app_name: str = "siderod", send_timeout_seconds: float = 5.0,
+                 critical_sound: bool = True, on_acknowledge: Callable[[str], Any] | None = None) -> None:
         self._app_name = app_name
         self._send_timeout_seconds = send_timeout_seconds
+        self._critical_sound = critical_sound
+        self.on_acknowledge = on_acknowledge  # the service sets it when it was built without one
         self._notifier: Any = None
 
     async def send(self, message: AlertMessage) -> None:
-        from desktop_notifier import DesktopNotifier
+        from desktop_notifier import Button, DesktopNotifier, Sound
         from desktop_notifier import Urgency as NotifierUrgency
 
         if self._notifier is None:
@@ -160,6 +178,13 @@ class DesktopChannel:
             Urgency.NORMAL: NotifierUrgency.Normal,
             Urgency.CRITICAL: NotifierUrgency.Critical,
         }[message.urgency]
+        extras: dict[str, Any] = {}
+        if message.urgency is Urgency.CRITICAL and message.kind:
+            if self.on_acknowledge is not None:
+                on_acknowledge, key = self.on_acknowledge, message.key
+                extras["buttons"] = (Button(ACKNOWLEDGE_BUTTON, on_pressed=lambda: on_acknowledge(key)),)
+            if self._critical_sound:
+                extras["sound"] = Sound(name=CRITICAL_SOUND_NAME)
         dispatched = asyncio.Event()
         captured = _CapturedWarnings()
         # desktop-notifier logs each failure with a full traceback; keep it for our one-line
@@ -170,7 +195,7 @@ class DesktopChannel:
         try:
             await asyncio.wait_for(
                 self._notifier.send(
-                    message.title, message.body, urgency=urgency, on_dispatched=dispatched.set
+                    message.title, message.body, urgency=urgency, on_dispatched=dispatched.set, **extras
                 ),
                 self._send_timeout_seconds,
             )
@@ -378,6 +403,7 @@ class ChannelWorker:
         self._idle = asyncio.Event()
         self._idle.set()
         self._stopping = False
+        self._in_flight: OwedDelivery | None = None
 
     @property
     def name(self) -> str:
@@ -396,6 +422,22 @@ class ChannelWorker:
             self._keys.add(item.message.key)
         heapq.heappush(self._heap, (item.due_utc.timestamp(), next(self._order), item))
         self._changed.set()
+
+    def drop(self, keys: Collection[str]) -> int:
+        """Forget queued alerts with these keys (not one being sent); return how many were queued.
+
+        For debts the service cancels on purpose: the repeats of an alert just acknowledged.
+        """
+        in_flight = self._in_flight
+        keep = [entry for entry in self._heap
+                if entry[2] is in_flight or not (entry[2].ledger and entry[2].message.key in keys)]
+        dropped = len(self._heap) - len(keep)
+        if dropped:
+            self._heap = keep
+            heapq.heapify(self._heap)
+            self._keys.difference_update(keys)
+            self._changed.set()
+        return dropped
 
     async def run(self) -> None:
         """Send until cancelled. Never raises for a channel's failure."""
@@ -437,6 +479,7 @@ class ChannelWorker:
             self._sink.started(self.name, item, now_utc)
         self._idle.clear()
         error: str | None = None
+        self._in_flight = item
         try:
             await self.channel.send(sent)
         except ChannelFailed as exc:
@@ -449,6 +492,7 @@ class ChannelWorker:
             self._sink.delivered(self.name, item, sent, self._clock.now_utc())
             return True
         finally:
+            self._in_flight = None
             self._idle.set()
             if item.tried is not None and not item.tried.done():
                 item.tried.set_result(error is None)
@@ -482,11 +526,20 @@ class ChannelWorker:
             await asyncio.gather(sleeper, return_exceptions=True)
 
 
-def build_channels(config: Config, env: Mapping[str, str] | None = None) -> list[Channel]:
-    """The channels ``[notify]`` asks for; the log channel is always first."""
+def build_channels(config: Config, env: Mapping[str, str] | None = None, *,
+                   on_acknowledge: Callable[[str], Any] | None = None) -> list[Channel]:
+    """The channels ``[notify]`` asks for; the log channel is always first, push destinations last.
+
+    Args:
+        config: the configuration in use.
+        env: unused (kept for callers that pass it).
+        on_acknowledge: what the desktop's Acknowledge button calls, with the alert's key.
+    """
     channels: list[Channel] = [LogChannel()]
     if config.notify.desktop:
-        channels.append(DesktopChannel(send_timeout_seconds=config.notify.send_timeout_seconds))
+        channels.append(DesktopChannel(send_timeout_seconds=config.notify.send_timeout_seconds,
+                                       critical_sound=config.notify.critical_sound,
+                                       on_acknowledge=on_acknowledge))
     if config.notify.command:
         channels.append(
             CommandChannel(
@@ -495,7 +548,18 @@ def build_channels(config: Config, env: Mapping[str, str] | None = None) -> list
                 timezone=config.site.timezone,
             )
         )
+    if config.notify.push:
+        from siderod.service.push import build_push_channels
+
+        channels.extend(build_push_channels(config.notify.push))
     return channels
+
+
+def channel_accepts(channel: Channel, message: AlertMessage) -> bool:
+    """Whether ``channel`` takes ``message``: a channel with an ``accepts`` filter (a push
+    destination's urgency and kinds) decides; every other channel takes everything."""
+    accepts = getattr(channel, "accepts", None)
+    return True if accepts is None else bool(accepts(message))
 
 
 # -- helpers ---------------------------------------------------------------------------------

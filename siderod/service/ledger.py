@@ -430,6 +430,22 @@ class Ledger:
                     fresh.append(event)
         return tuple(fresh)
 
+    def drop_owed_of_events(self, event_ids: Iterable[str], now_utc: datetime) -> tuple[str, ...]:
+        """Cancel every debt still owed for alerts of these events (acknowledged: nothing more to
+        tell); the debts become ``dropped``. Returns the alert keys that had debts cancelled."""
+        keys: list[str] = []
+        with self._transaction():
+            for event in dict.fromkeys(event_ids):
+                prefix = event + "|"
+                rows = self._db.execute(
+                    "SELECT key, channel FROM owed WHERE state = 'owed' AND substr(key, 1, ?) = ?",
+                    (len(prefix), prefix),
+                ).fetchall()
+                for key, channel in rows:
+                    self._settle(key, channel, "dropped", now_utc)
+                    keys.append(key)
+        return tuple(dict.fromkeys(keys))
+
     def acknowledged(self) -> frozenset[str]:
         """Every acknowledged event id (kept as long as the ledger keeps alerts)."""
         return frozenset(r[0] for r in self._db.execute("SELECT event FROM acks"))

@@ -278,6 +278,7 @@ def snapshot_to_json(snapshot: ServiceSnapshot) -> dict[str, Any]:
         "planned_count": snapshot.planned_count,
         "clock_tolerance_seconds": snapshot.clock_tolerance_seconds,
         "mount": _mount_to_json(snapshot.mount),
+        "awaiting_ack": list(snapshot.awaiting_ack),
     }
 
 
@@ -324,6 +325,7 @@ def snapshot_from_json(data: Any) -> ServiceSnapshot:
         planned_count=r.integer("planned_count", default=0),
         clock_tolerance_seconds=r.number("clock_tolerance_seconds", default=1.0),
         mount=_mount_from_json(r.obj("mount")) if "mount" in r.keys() else MountView(),
+        awaiting_ack=tuple(_texts(r, "awaiting_ack")),
     )
 
 
@@ -523,12 +525,20 @@ def _site_from_json(r: _Reader) -> Site:
     )
 
 
+def _texts(r: _Reader, key: str) -> list[str]:
+    items = r.list(key, default=[])
+    if not all(isinstance(item, str) for item in items):
+        raise BadReply(f"{r.where}.{key}: expected an array of texts")
+    return items
+
+
 def _alert_to_json(alert: PlannedAlert) -> dict[str, Any]:
     e = alert.event
     return {
         "key": alert.key,
         "due_utc": format_iso_z(alert.due_utc),
         "lead_minutes": alert.lead_minutes,
+        "repeat_number": alert.repeat_number,
         "urgency": alert.urgency.value,
         "title": alert.title,
         "body": alert.body,
@@ -565,6 +575,7 @@ def _alert_from_json(r: _Reader) -> PlannedAlert:
         key=r.text("key"),
         event=event,
         lead_minutes=r.number("lead_minutes"),
+        repeat_number=r.integer("repeat_number", default=0),
         due_utc=r.time("due_utc"),
         urgency=r.choice("urgency", Urgency),
         title=r.text("title"),

@@ -109,7 +109,11 @@ def make_config(
     replan_minutes: float = 60.0,
     path: str = "synthetic.toml",
     target_overrides=None,
+    repeat_minutes: float = 0.0,
+    repeat_count: int = 10,
 ) -> Config:
+    """A whole synthetic configuration. Critical alerts do not repeat unless ``repeat_minutes``
+    says so: the tests that use it count configured alerts; the repeats have tests of their own."""
     leads = lead_minutes or {
         EventKind.FLIP_DUE: (10.0, 0.0),
         EventKind.TRACKING_LIMIT: (5.0,),
@@ -134,6 +138,8 @@ def make_config(
             grace_minutes=grace_minutes,
             horizon_hours=horizon_hours,
             replan_minutes=replan_minutes,
+            repeat_minutes=repeat_minutes,
+            repeat_count=repeat_count,
         ),
         notify=NotifySettings(desktop=False),
     )
