@@ -53,6 +53,7 @@ class PushChannel:
         # Keys whose send timed out here but then succeeded in its thread: the alert did arrive,
         # so the retry that the service makes for it must not send it a second time.
         self._arrived_late: set[str] = set()
+        self._abandoned_key: str | None = None
 
     def accepts(self, message: AlertMessage) -> bool:
         """Whether this destination takes ``message``: its urgency and, if set, its kinds.
@@ -100,22 +101,19 @@ class PushChannel:
             target=self._run_in_thread, args=(message, loop, done), name=self.name, daemon=True
         )
         self._worker_done.clear()
+        self._abandoned_key = None
         self._worker_started_mono = time.monotonic()
         worker.start()
         try:
             ok, lines = await asyncio.wait_for(asyncio.shield(done), timeout_seconds)
         except TimeoutError:
-            done.add_done_callback(lambda f, key=message.key: self._note_late(key, f))
+            self._abandoned_key = message.key  # _finish notes it if the send succeeds after all
             raise ChannelFailed(
                 f"{masked} did not answer within {timeout_seconds:g} s (server down or hung?)"
             ) from None
         if not ok:
             reason = "; ".join(dict.fromkeys(line.strip() for line in lines if line.strip()))
             raise ChannelFailed(redact(f"{masked}: {reason or 'apprise reported a failure'}", self._secrets))
-
-    def _note_late(self, key: str, done: asyncio.Future[tuple[bool, list[str]]]) -> None:
-        if not done.cancelled() and done.result()[0]:
-            self._arrived_late.add(key)
 
     async def close(self) -> None:
         # A worker still running is a daemon thread stuck in a socket call with a timeout; it
@@ -136,11 +134,20 @@ class PushChannel:
                 ok = False
                 captured.lines.append(f"{type(exc).__name__}: {exc}")
         result = (bool(ok), list(captured.lines))
-        self._worker_done.set()
         try:
-            loop.call_soon_threadsafe(_settle, done, result)
-        except RuntimeError:
-            pass  # the loop has closed (the service stopped while this send hung)
+            loop.call_soon_threadsafe(self._finish, done, result)
+        except RuntimeError:  # the loop has closed (the service stopped while this send hung)
+            self._worker_done.set()
+
+    def _finish(self, done: asyncio.Future[tuple[bool, list[str]]], result: tuple[bool, list[str]]) -> None:
+        # On the loop: the result (and a late success) is known before the channel counts as
+        # free again, so a retry can never start between the two.
+        if not done.done():
+            done.set_result(result)
+        if self._abandoned_key is not None and result[0]:
+            self._arrived_late.add(self._abandoned_key)
+        self._abandoned_key = None
+        self._worker_done.set()
 
     def _notify(self, message: AlertMessage) -> bool:
         apprise = load_apprise()
@@ -171,8 +178,3 @@ def build_push_channels(destinations: Sequence[PushDestination]) -> list[PushCha
 
 # How much longer apprise's socket timeouts are than the destination's timeout (see _notify).
 _SOCKET_GRACE_SECONDS = 2.0
-
-
-def _settle(done: asyncio.Future[Any], result: Any) -> None:
-    if not done.done():
-        done.set_result(result)
