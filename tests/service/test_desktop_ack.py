@@ -1,0 +1,161 @@
+"""The desktop's Acknowledge button, pressed for real: a private session bus, the recording
+notification service (tests/helpers/notify_server.py) emitting ActionInvoked as a desktop does
+when its button is clicked, and the service stopping the repeats of that alert.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import json
+import os
+import signal
+import subprocess
+import sys
+import tempfile
+import time
+from datetime import timedelta
+from pathlib import Path
+
+import pytest
+from helpers import service_fakes as fakes
+
+from siderod.common.clock import FakeClock
+from siderod.common.model import ClockHealth, Event, EventKind
+from siderod.service.delivery import ACKNOWLEDGE_BUTTON, CRITICAL_SOUND_NAME, DesktopChannel
+from siderod.service.scheduling import ClockScheduler
+
+pytestmark = [pytest.mark.slow, pytest.mark.needs_dbus]
+
+SERVER = Path(__file__).resolve().parents[1] / "helpers" / "notify_server.py"
+START_TIMEOUT_SECONDS = 10.0  # the bus and the server each print one line when ready
+BUS_WAIT_SECONDS = 10.0  # the longest real wait for something to cross the bus
+FLIP_UTC = fakes.NIGHT_START_UTC + timedelta(minutes=5)
+
+_BUS_CONFIG = """<!DOCTYPE busconfig PUBLIC "-//freedesktop//DTD D-BUS Bus Configuration 1.0//EN"
+ "http://www.freedesktop.org/standards/dbus/1.0/busconfig.dtd">
+<busconfig>
+  <type>session</type>
+  <listen>unix:dir={dir}</listen>
+  <auth>EXTERNAL</auth>
+  <policy context="default">
+    <allow send_destination="*" eavesdrop="true"/>
+    <allow eavesdrop="true"/>
+    <allow own="*"/>
+  </policy>
+</busconfig>
+"""
+
+
+@pytest.fixture
+def desktop(tool, monkeypatch, tmp_path):
+    """A private bus and the recording notification service taking commands. Yields (process, record)."""
+    dbus_daemon = tool("dbus-daemon")
+    with tempfile.TemporaryDirectory(prefix="sdbus", dir="/tmp") as directory:  # short: socket path limit
+        config = Path(directory) / "bus.conf"
+        config.write_text(_BUS_CONFIG.format(dir=directory))
+        bus = subprocess.Popen([dbus_daemon, f"--config-file={config}", "--nofork", "--print-address=1"],
+                               stdout=subprocess.PIPE, stderr=subprocess.DEVNULL)
+        server = None
+        try:
+            address = _read_line(bus, "dbus-daemon")
+            monkeypatch.setenv("DBUS_SESSION_BUS_ADDRESS", address)
+            record = tmp_path / "notify.jsonl"
+            server = subprocess.Popen([sys.executable, str(SERVER), str(record), "--commands"],
+                                      stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                                      stderr=subprocess.DEVNULL,
+                                      env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=address))
+            assert _read_line(server, "notify_server") == "ready"
+            yield server, record
+        finally:
+            for process in (server, bus):
+                if process is None:
+                    continue
+                process.send_signal(signal.SIGCONT)
+                process.kill()
+                process.wait()
+                process.stdout.close()
+                if process.stdin:
+                    process.stdin.close()
+
+
+def _read_line(process: subprocess.Popen, what: str) -> str:
+    os.set_blocking(process.stdout.fileno(), False)
+    deadline = time.monotonic() + START_TIMEOUT_SECONDS
+    data = b""
+    while b"\n" not in data:
+        if time.monotonic() > deadline or process.poll() is not None:
+            raise AssertionError(f"{what} did not answer")
+        chunk = process.stdout.read()
+        if chunk:
+            data += chunk
+        else:
+            time.sleep(0.005)
+    return data.split(b"\n", 1)[0].decode().strip()
+
+
+def _records(path: Path) -> list[dict]:
+    return [json.loads(line) for line in path.read_text().splitlines()] if path.exists() else []
+
+
+def _service(tmp_path, clock, channels, *, repeat_minutes=2.0):
+    from siderod.service.daemon import Service
+
+    config = fakes.make_config(targets=("M42", "M31"), lead_minutes={EventKind.FLIP_DUE: (0.0,),
+                                                                     EventKind.CULMINATION: (0.0,)},
+                               repeat_minutes=repeat_minutes)
+    events = [Event(FLIP_UTC, EventKind.FLIP_DUE, "M42", 30.0, 180.0, hour_angle_hours=0.0),
+              Event(FLIP_UTC, EventKind.CULMINATION, "M31", 70.0, 180.0, hour_angle_hours=0.0)]
+    return Service(
+        lambda: config, clock, lambda on_due: ClockScheduler(on_due, clock), channels,
+        ledger_path=tmp_path / "ledger.sqlite3", agenda_source=fakes.FixedAgendaSource(events),
+        control=False, env={}, offload_planning=False, file_poll_seconds=0, anomaly_period_seconds=600.0,
+        clock_health_reader=lambda: ClockHealth(state="unknown"),
+    )
+
+
+async def _until(condition, what: str) -> None:
+    deadline = time.monotonic() + BUS_WAIT_SECONDS
+    while not condition():
+        assert time.monotonic() < deadline, f"timed out waiting for {what}"
+        await asyncio.sleep(0.01)  # real I/O across the bus: the one place this test waits
+
+
+async def test_pressing_acknowledge_on_the_desktop_stops_the_repeats(desktop, tmp_path):
+    server, record = desktop
+    clock = FakeClock(fakes.NIGHT_START_UTC)
+    service = _service(tmp_path, clock, [DesktopChannel(send_timeout_seconds=5.0)])
+    task = await fakes.run_service_until(service, clock, FLIP_UTC + timedelta(seconds=1))
+    await _until(lambda: len(_records(record)) == 2, "the flip and the culmination")
+    flip, culmination = sorted(_records(record), key=lambda r: "flip" not in r["summary"])
+    assert flip["summary"] == "M42: meridian flip due now" and flip["hints"]["urgency"] == 2
+    assert ACKNOWLEDGE_BUTTON in flip["actions"]
+    assert flip["hints"]["sound-name"] == CRITICAL_SOUND_NAME
+    assert ACKNOWLEDGE_BUTTON not in culmination["actions"] and "sound-name" not in culmination["hints"]
+
+    await clock.advance(120.0)  # the first repeat
+    await _until(lambda: len(_records(record)) == 3, "the first repeat")
+    assert _records(record)[-1]["summary"] == "M42: meridian flip due now (repeat 1)"
+
+    server.stdin.write(f"press {ACKNOWLEDGE_BUTTON}\n".encode())
+    server.stdin.flush()
+    assert _read_line(server, "notify_server").startswith("pressed ")
+    await _until(lambda: service._ledger.acknowledged() == {"M42|flip-due|2026-12-14T16:05:00Z"},
+                 "the acknowledgement")
+    await _until(lambda: not service.snapshot().awaiting_ack, "the repeats to be planned away")
+    for _ in range(5):  # ten more minutes: no repeat comes
+        await clock.advance(120.0)
+        await asyncio.sleep(0.05)
+    await fakes.stop_service(service, task)
+    assert len(_records(record)) == 3
+
+
+async def test_the_critical_sound_can_be_switched_off(desktop, tmp_path):
+    _, record = desktop
+    clock = FakeClock(fakes.NIGHT_START_UTC)
+    service = _service(tmp_path, clock, [DesktopChannel(send_timeout_seconds=5.0, critical_sound=False)],
+                       repeat_minutes=0.0)
+    task = await fakes.run_service_until(service, clock, FLIP_UTC + timedelta(seconds=1))
+    await _until(lambda: len(_records(record)) == 2, "both alerts")
+    await fakes.stop_service(service, task)
+    flip = next(r for r in _records(record) if "flip" in r["summary"])
+    assert "sound-name" not in flip["hints"] and ACKNOWLEDGE_BUTTON in flip["actions"]
