@@ -190,6 +190,10 @@ def format_status(result: dict[str, Any]) -> str:
     if warning:
         lines.append(f"  WARNING: {warning}")
 
+    if s.awaiting_ack:
+        lines.append("REPEATING until acknowledged (`siderod ack`, or A on the board):")
+        for event in s.awaiting_ack:
+            lines.append(f"  {_event_text(event, zone)}")
     lines.append(f"next alerts ({s.planned_count} planned, {s.missed_count} missed):")
     if not s.next_alerts:
         lines.append("  none planned")
@@ -220,6 +224,20 @@ def format_status(result: dict[str, Any]) -> str:
 
 
 # -- helpers, in the order they are used ------------------------------------------------------------
+
+
+def _event_text(event: str, zone: Any) -> str:
+    """``M42|flip-due|2026-12-14T22:03:08Z`` -> ``M42 flip-due at 22:03 GMT (22:03 UTC)``."""
+    from siderod.service.protocol import parse_iso_z
+
+    parts = event.rsplit("|", 2)
+    if len(parts) != 3:
+        return event
+    target, kind, when = parts
+    try:
+        return f"{target} {kind} at {_local(parse_iso_z(when), zone)}"
+    except ValueError:
+        return event
 
 
 def _duration_arg(text: str) -> float:

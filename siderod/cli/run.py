@@ -125,7 +125,9 @@ async def _run_view(service, clock) -> None:
         source="this service",
     )
     try:
-        await run_live(clock, feed.inputs_at, console, min(service.config.view.refresh_hz, 10.0))
+        # One key on the board: A acknowledges every critical alert that is repeating.
+        await run_live(clock, feed.inputs_at, console, min(service.config.view.refresh_hz, 10.0),
+                       keys={"a": lambda: service.acknowledge(via="board")})
     finally:
         await feed.close()
 

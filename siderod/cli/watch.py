@@ -122,9 +122,15 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
     )
     hz = args.hz if args.hz is not None else config.view.refresh_hz
 
+    async def acknowledge() -> None:
+        # The board's A key: the same request as `siderod ack`. Without a service there is
+        # nothing repeating, so the key does nothing.
+        if snapshot is not None:
+            await asyncio.to_thread(request_once, socket_path, {"op": "ack"}, timeout_seconds=20.0)
+
     async def main() -> None:
         try:
-            await run_live(clock, feed.inputs_at, console, min(hz, 10.0))
+            await run_live(clock, feed.inputs_at, console, min(hz, 10.0), keys={"a": acknowledge})
         finally:
             await feed.close()
 

@@ -479,9 +479,15 @@ def _alert_lines(inputs: BoardInputs, width: int) -> list[Text]:
         alerts, label = inputs.local_alerts, "would alert "
     ahead = [a for a in alerts if a.due_utc >= now_utc]
     zone = _zone(inputs.config.site.timezone)
-    if not ahead:
-        return [_line(width, (label, "siderod.label"), ("none planned", "siderod.dim"))]
     out = []
+    awaiting = inputs.snapshot.awaiting_ack if inputs.snapshot is not None else ()
+    if awaiting:
+        more = f" +{len(awaiting) - 3}" if len(awaiting) > 3 else ""
+        names = ", ".join(_event_name(e) for e in awaiting[:3]) + more
+        out.append(_line(width, ("REPEATING ", "siderod.alert.critical"), (names, "siderod.alert.critical"),
+                         ("  press A to acknowledge", "siderod.label")))
+    if not ahead:
+        return out + [_line(width, (label, "siderod.label"), ("none planned", "siderod.dim"))]
     for i, alert in enumerate(ahead[:3]):
         style = {Urgency.CRITICAL: "siderod.alert.critical", Urgency.LOW: "siderod.alert.low"}.get(
             alert.urgency, "siderod.alert.normal")
@@ -491,6 +497,12 @@ def _alert_lines(inputs: BoardInputs, width: int) -> list[Text]:
                          (f"{alert.due_utc.astimezone(zone):%H:%M} ", "siderod.time"),
                          (f"in {countdown:<6} ", "siderod.countdown"), (mark, style), (alert.title, style)))
     return out
+
+
+def _event_name(event: str) -> str:
+    """``M42|flip-due|2026-12-14T22:03:08Z`` -> ``M42 flip-due``."""
+    parts = event.rsplit("|", 2)
+    return f"{parts[0]} {parts[1]}" if len(parts) == 3 else event
 
 
 def _delivery_lines(inputs: BoardInputs, width: int) -> list[Text]:

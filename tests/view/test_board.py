@@ -438,3 +438,11 @@ def test_demo_picture_command_writes_an_svg(tmp_path):
     assert _main(["--svg", str(out), "--width", "100", "--height", "32"]) == 0
     svg = out.read_text(encoding="utf-8")
     assert svg.startswith("<svg") and "Corrie" in svg and "late" in svg
+
+
+def test_an_alert_repeating_until_acknowledged_says_which_key_stops_it():
+    inputs = small_inputs(snapshot=snapshot(awaiting_ack=("M42|flip-due|2026-12-14T22:03:08Z",)))
+    text = record(render_board(inputs, 100, 30), width=100, height=30)
+    assert "REPEATING M42 flip-due  press A to acknowledge" in text
+    assert "REPEATING" not in record(render_board(small_inputs(snapshot=snapshot()), 100, 30), width=100,
+                                     height=30)
