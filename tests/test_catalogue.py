@@ -118,3 +118,11 @@ def test_missing_package_is_a_clear_error(monkeypatch):
     (error,) = info.value.errors
     assert (error.line, error.key) == (2, "target[1].name")
     assert "ra and dec" in error.expected and "pip install pyongc" in error.expected
+
+
+def test_a_common_name_shared_by_two_entries_is_ambiguous(cat):
+    # OpenNGC gives "Eagle Nebula" both to NGC 6611 (M 16, the cluster) and to IC 4703 (the nebula).
+    with pytest.raises(CatalogueNameError) as info:
+        cat.find("Eagle Nebula")
+    assert info.value.reason == "ambiguous"
+    assert [s.split()[0:2] for s in info.value.suggestions] == [["IC", "4703"], ["M", "16"]]

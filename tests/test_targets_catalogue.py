@@ -70,3 +70,10 @@ def test_demo_targets_named_only_have_events_and_alerts(demo_config):
     assert named <= culminating
     flips = {e.target for e in agenda.events if e.kind is EventKind.FLIP_DUE}
     assert {"M42", "M45", "Crab Nebula"} <= flips  # flip-due alerts are configured in the demo
+
+
+def test_an_ambiguous_name_is_an_error_listing_each_entry():
+    (error,) = _errors('[[target]]\nname = "Eagle Nebula"\n')
+    assert (error.line, error.key) == (2, "target[1].name")
+    assert "means several: IC 4703 (Eagle Nebula); M 16 (NGC 6611, Eagle Nebula)" in error.expected
+    assert 'catalogue = "..."' in error.expected
