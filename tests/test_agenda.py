@@ -2,6 +2,7 @@
 
 from datetime import UTC, datetime, timedelta
 
+import numpy as np
 import pytest
 
 from siderod.common.model import (
@@ -15,6 +16,9 @@ from siderod.common.model import (
     Target,
 )
 from siderod.plan.agenda import compute_agenda, event_to_json
+from siderod.plan.positions import observer_for
+from tests.helpers.horizon_reference import TIME_TOLERANCE_SECONDS, ErfaStar, Limit, reference_crossings
+from tests.helpers.horizon_reference import Site as ReferenceSite
 
 #: The demo site (invented; RULES.md): Corrie Hill Observatory.
 SITE = Site("Corrie Hill Observatory", 56.0 + 12 / 60 + 30 / 3600, -(3.0 + 41 / 60 + 15 / 3600), 212.0,
@@ -143,3 +147,78 @@ def test_event_to_json_fields():
     assert culm["time_utc"].endswith("Z") and culm["target"] == "Capella" and culm["usable"] is True
     moon = [d for d in data if d["kind"] == "moonset"]
     assert all(d["target"] is None and 0 <= d["moon_illuminated_fraction"] <= 1 for d in moon)
+
+
+#: A tree 8 deg wide at its foot (azimuth 196 to 204) and 45 deg tall, on an otherwise low horizon.
+TREE_HORIZON = ((0.0, 3.0), (196.0, 3.0), (200.0, 45.0), (204.0, 3.0))
+
+
+def test_star_behind_a_narrow_tree_sets_and_rises_and_splits_its_dark_interval():
+    # Betelgeuse passes the tree's crown at about 39.7 deg after culminating (41.2 deg) and is
+    # hidden for a few minutes around 01:38 UTC. The set and rise must be listed and the dark
+    # interval cut in two. Reference for the two times: a 1 s scan of the erfa.atco13 chain's
+    # altitude minus the same limit, bisected to 1 ms (tests/helpers/horizon_reference.py), within
+    # its TIME_TOLERANCE_SECONDS (1 s, the issue's requirement).
+    site = Site(SITE.name, SITE.latitude_deg, SITE.longitude_deg, SITE.elevation_m, SITE.timezone,
+                horizon=TREE_HORIZON)
+    config = _config(site=site, targets=(TARGETS[0],))
+    agenda = compute_agenda(config, DEMO_NIGHT)
+    tree = [e for e in agenda.events if e.target == "Betelgeuse" and e.kind in (EventKind.SET, EventKind.RISE)
+            and 196.0 < e.azimuth_deg < 204.0]
+    assert [e.kind for e in tree] == [EventKind.SET, EventKind.RISE]
+    hidden = (tree[1].time_utc - tree[0].time_utc).total_seconds()
+    assert 60.0 < hidden < 15 * 60.0
+    observer = observer_for(config)
+    star = ErfaStar(88.7929, 7.4071, ReferenceSite(SITE.latitude_deg, SITE.longitude_deg, SITE.elevation_m),
+                    tree[0].time_utc.timestamp() - 600, tree[1].time_utc.timestamp() + 600)
+    limit = Limit(tuple(a for a, _ in TREE_HORIZON), tuple(h for _, h in TREE_HORIZON), 10.0, True,
+                  observer.effective_pressure_hpa, observer.temperature_c)
+    ref_t, ref_rising, _ = reference_crossings(star, limit, tree[0].time_utc.timestamp() - 300,
+                                               tree[1].time_utc.timestamp() + 300)
+    assert ref_rising.tolist() == [False, True]
+    assert abs(ref_t[0] - tree[0].time_utc.timestamp()) < TIME_TOLERANCE_SECONDS
+    assert abs(ref_t[1] - tree[1].time_utc.timestamp()) < TIME_TOLERANCE_SECONDS
+    spans = agenda.dark_intervals["Betelgeuse"]
+    assert any(abs((end - tree[0].time_utc).total_seconds()) < 1e-3 for _, end in spans)
+    assert any(abs((begin - tree[1].time_utc).total_seconds()) < 1e-3 for begin, _ in spans)
+
+
+#: `now` places a target with the full apparent-place model, the agenda with a fitted track: they
+#: agree to ~0.05" (tests/astro/test_places.py), i.e. to a few ms of time at these crossings. An
+#: instant closer than this to a rise or set is too close to call the same way in both.
+NEAR_CROSSING_SECONDS = 0.05
+
+
+@pytest.mark.slow
+def test_now_board_and_agenda_agree_on_below_the_limit_around_a_narrow_tree():
+    # "Below" is one definition (siderod.plan.positions.altitude_limit, usable when alt >= limit):
+    # `siderod now` and the board both read SkyState.min_alt_deg and compare with >=; the agenda's
+    # rise/set bound the same set. Checked every 5 s across the tree and at 60 instants over the
+    # night, with and without refraction; and, with no profile at all, for a target whose own
+    # min_altitude is below 0 deg (no 0 deg horizon is added then, in any of the three).
+    from siderod.plan.positions import compute_sky
+
+    tree = Site(SITE.name, SITE.latitude_deg, SITE.longitude_deg, SITE.elevation_m, SITE.timezone,
+                horizon=TREE_HORIZON)
+    flat = Site(SITE.name, SITE.latitude_deg, SITE.longitude_deg, SITE.elevation_m, SITE.timezone)
+    low = _target("Low", 60.0, -31.0, min_altitude_deg=-2.0)  # culminates at 2.8 deg
+    start = DEMO_NIGHT.timestamp()
+    for site, target in ((tree, TARGETS[0]), (flat, low)):
+        for refraction in (True, False):
+            config = _config(site=site, targets=(target,),
+                             events=EventSettings(min_altitude_deg=10.0, refraction=refraction))
+            agenda = compute_agenda(config, DEMO_NIGHT)
+            crossings = [(e.time_utc.timestamp(), e.kind is EventKind.SET) for e in agenda.events
+                         if e.kind in (EventKind.SET, EventKind.RISE)]
+            assert crossings
+            instants = list(np.linspace(start + 60.0, start + 86000.0, 60))
+            for t_set in (t for t, down in crossings if down):
+                instants += list(np.arange(t_set - 60.0, t_set + 420.0, 5.0))
+            for t in instants:
+                if min(abs(t - c) for c, _ in crossings) < NEAR_CROSSING_SECONDS:
+                    continue
+                before = [down for c, down in crossings if c < t]
+                below_agenda = before[-1] if before else not crossings[0][1]
+                sky = compute_sky(config, float(t))
+                below_now = bool(sky.alt_deg[0] < sky.min_alt_deg[0])
+                assert below_now == below_agenda, (target.name, refraction, t)

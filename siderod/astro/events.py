@@ -19,19 +19,23 @@ Method for stars (closed form first, then refinement against the full apparent-p
 * a crossing of a flat altitude ``h0`` is the hour-angle mark ``H = -/+ acos((sin h0 - sin phi sin d)
   / (cos phi cos d))`` with ``d`` re-evaluated at each refinement step (a fixed-point iteration that
   converges to the crossing of the model, even for grazing targets);
-* a crossing of a horizon profile (the limit depends on azimuth) is bracketed on a grid of hour angle
-  across the part of each rising and setting branch where the altitude lies inside the profile's
-  altitude band, refined with :func:`siderod.astro.search.refine_roots`, then polished in time with
-  two Newton steps on the full model;
+* a crossing of a horizon profile (the limit depends on azimuth) is found from the profile's side:
+  the profile is a closed curve in the sky, cut once into pieces along which the declination of
+  its points is monotone, so a target crosses it exactly where a piece reaches the target's
+  declination -- nothing is sampled along the target's path and no feature is too narrow
+  (:func:`find_limit_events` gives the argument); the points are then polished in time with two
+  Newton steps on the full model;
 * the Sun and the Moon use the generic grid scan of :func:`siderod.astro.search.find_crossings`.
 
-Diurnal aberration (the observer's eastward motion, up to 0.32") is applied to hour-angle marks,
-where it moves a near-polar culmination by up to 0.7 s; it changes altitude crossings by under 0.05 s
-and is left out there. Polar motion (<= 0.5") is not applied.
+Diurnal aberration (the observer's eastward motion, up to 0.32") is applied everywhere a target's
+direction is used: hour-angle marks (it moves a near-polar culmination by up to 0.7 s), altitude
+crossings (it moves a crossing at 30 deg by about 0.01 s; none at the horizon, where the apex
+lies) and the altitudes and azimuths of :func:`target_altaz`. Polar motion (<= 0.5") is not applied.
 """
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field
 
@@ -40,8 +44,13 @@ import numpy as np
 from siderod.astro.constants import DEG_RAD, HOUR_RAD, SIDEREAL_PER_SOLAR
 from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE, LeapTable
 from siderod.astro.places import Observer, Stars, apparent_radec
-from siderod.astro.refraction import refraction_deg, refraction_from_true_deg
-from siderod.astro.search import find_crossings, refine_roots
+from siderod.astro.refraction import (
+    BELOW_HORIZON_TAPER_DEG,
+    refraction_deg,
+    refraction_from_true_deg,
+    refraction_slope,
+)
+from siderod.astro.search import find_crossings
 from siderod.astro.sunmoon import moon_apparent_radec, observe_moon, observe_sun
 from siderod.astro.timescales import instants_from_unix
 
@@ -93,13 +102,24 @@ _DIURNAL_ABERRATION_RAD = 7.292115e-5 * 6378.137 / 299792.458
 _MOON_RADIUS_KM = 1737.4  # IAU mean radius
 _GRID_STEP_SUN_SECONDS = 1200.0  # Sun/Moon altitude grid: extrema are >= ~10 h apart
 _CANDIDATE_MARGIN_SECONDS = 120.0
-_GRID_CHUNK_ROWS = 4096  # rows per grid pass: keeps scratch arrays in cache (perf-baselines.md)
 #: A moving body's crossing counts as found when the last refinement step is below this (hours;
 #: 3.6 ms of time): a Dec that turns back before the crossing leaves the steps large instead.
 _CONVERGED_HOURS = 1e-6
 #: Earth's equatorial radius in au (6378.137 km / 149 597 870.7 km): the parallax of a body at
 #: distance D au is asin(_EARTH_RADIUS_AU / D).
 _EARTH_RADIUS_AU = 6378.137 / 149597870.7
+#: Horizon-profile crossings (see find_limit_events and _profile_curve):
+_POLISH_LIMIT_SECONDS = 60.0  # a polishing step this long means the crossing vanished (grazing pair)
+_CURVE_NODE_SPACING_DEG = 1.0  # first nodes along each segment (azimuth + altitude travelled)
+_CURVE_SPLIT = 8  # uncertain spans are cut into this many
+_CURVE_MAX_LEVELS = 16  # 8**16 spans per coarse span: far below any width the bound needs
+#: Bounds of Bennett refraction's first and second derivatives at 1010 hPa, 10 degC (scaled with the
+#: weather): |dR/dh| <= 0.2185 and |d2R/dh2| <= 0.108 per degree for apparent h in (0, 89.1] deg (zero
+#: curvature on the linear taper below 0 deg); measured on a 5e-4 deg grid, checked in
+#: tests/astro/test_events.py.
+_REFRACTION_SLOPE_MAX = 0.22
+_REFRACTION_CURVATURE_MAX_PER_DEG = 0.12
+_REFRACTION_CURVATURE_MAX_PER_RAD = _REFRACTION_CURVATURE_MAX_PER_DEG / DEG_RAD
 
 
 # ---------------------------------------------------------------------------------------------
@@ -410,7 +430,7 @@ def target_altaz(track: TargetTrack, last_hours_at, latitude_deg: float, unix_se
     """
     t = np.asarray(unix_seconds, dtype=float)
     ha, dec = track.hadec_at(t, last_hours_at, index)
-    alt, az = _altaz(ha, dec, latitude_deg)
+    alt, az = _altaz(ha, dec, latitude_deg, aberration=True)
     return alt, az, ha
 
 
@@ -525,9 +545,14 @@ def find_altitude_events(track: TargetTrack, last_hours_at, latitude_deg: float,
     s_h0, s = both_sin[cand_mark], sign[cand_mark]
     valid = np.ones(cand_t.shape, dtype=bool)
     step_hours = np.zeros(cand_t.shape)
+    k = _DIURNAL_ABERRATION_RAD * cp
     for _ in range(track.refine_steps + 1):
         ha, dec = track.hadec_at(cand_t, last_hours_at, cand_idx)
-        c = _cos_crossing(s_h0, dec, sp, cp)
+        # Diurnal aberration: the seen altitude is asin(sin h / sqrt(1 - 2k y_h + k^2)), y_h =
+        # cos d sin H (module docstring); its factor is taken at the current hour angle, which the
+        # first guess already puts within seconds of the crossing.
+        y_h = np.cos(dec * DEG_RAD) * np.sin(ha * HOUR_RAD)
+        c = _cos_crossing(s_h0 * np.sqrt(1.0 - 2.0 * k * y_h + k * k), dec, sp, cp)
         valid = np.abs(c) <= 1.0
         target = s * np.arccos(np.clip(c, -1.0, 1.0)) / HOUR_RAD
         step_hours = _wrap12(target - ha)
@@ -551,193 +576,481 @@ def find_altitude_events(track: TargetTrack, last_hours_at, latitude_deg: float,
 
 
 def find_limit_events(track: TargetTrack, last_hours_at, latitude_deg: float, limit: AltitudeLimit,
-                      start_unix: float, end_unix: float, *, index=None, samples_per_branch: int = 16):
+                      start_unix: float, end_unix: float, *, index=None):
     """Every instant in the window at which targets cross their azimuth-dependent limit.
 
-    The limit ``limit.geometric_deg(az, j)`` lies in a band ``[low_j, high_j]``
-    (:meth:`AltitudeLimit.band_geometric_deg`); a crossing can only happen while the target's
-    altitude is inside that band, which on each rising or setting branch is one interval of hour
-    angle known in closed form. That interval is sampled at ``samples_per_branch`` hour angles
-    (Dec at the window centre), sign changes of ``altitude - limit`` are refined in hour angle, and
-    each root is placed in time and polished by two Newton steps on the full model. Profile features
-    narrower than about 1/15 of the branch's azimuth span can be missed (documented limitation).
+    The limit of target j is ``max(profile(A), floor_j)`` (:class:`AltitudeLimit`), so a target is
+    below it exactly when it is below its floor *or* below the profile. Each crossing of the limit
+    is therefore a crossing of one of the two while the target is above the other, and the two are
+    found separately, each completely:
+
+    * **the floor** is a flat altitude: its crossings come in closed form from
+      :func:`find_altitude_events`; one is kept where the profile at that azimuth is below the floor;
+    * **the profile** is a closed curve in the sky (straight segments in azimuth and observed
+      altitude, turned into geometric altitude by the refraction of :class:`AltitudeLimit`). A
+      target of declination d crosses it exactly where a point of the curve has declination d,
+      once per sidereal day per such point (a star's declination does not change as it turns).
+      The curve is cut into *pieces* along which the declination of its points is strictly
+      monotone (:func:`_profile_curve`, computed once per profile, latitude and weather); on
+      such a piece each declination occurs at most once, so a target crosses a piece at most once
+      per sidereal day, and does cross it when its declination lies in the piece's range. The
+      crossing's direction is the piece's: the stars rise where the curve's declination falls as
+      the azimuth grows (the eastern half of a flat horizon), and set where it rises. Each
+      matching (target, piece) gives the point (solved on the piece), its hour angle and so the
+      times, which are then polished on the full model (two Newton steps in time against the
+      piece's own segment, the target's declination moving with the fitted track). A crossing is
+      kept where the profile there is above the target's floor.
+
+    Nothing is sampled along a target's path, so no feature is too narrow: a notch or spike of any
+    width, a wall of 200 points, points closer than 1 deg and segments through north all reduce to
+    pieces of the same curve. What the proof rests on, and what it leaves out:
+
+    * the monotone pieces are certified, not guessed: between two sampled points of a segment the
+      derivative of the declination cannot vanish when it exceeds a bound on its own derivative
+      times the spacing; uncertain spans are subdivided until certified, and any left (narrower
+      than about 1e-8 of the segment) become pieces of their own, inside which sin(declination) can
+      turn back by no more than about 1e-15 (a grazing dip far below a micro-arcsecond);
+    * the declination used for matching is the track's at the window centre; its drift over a
+      window (under 2" per day) is followed by the polishing, which only fails where a crossing pair
+      on either side of a turning point of the curve merges and vanishes during the window (the
+      target grazes the curve by less than its drift; such a pair is dropped together);
+    * events closer than 1 ms to a window edge follow :data:`EDGE_TOLERANCE_SECONDS`.
 
     Args:
         track, last_hours_at, latitude_deg: as for :func:`find_altitude_events`.
         limit: the per-target, per-azimuth limit.
         start_unix, end_unix: the window (half-open).
         index (array_like of int, optional): targets to search (default all).
-        samples_per_branch: grid size per branch.
 
     Returns:
         tuple: ``(index, unix_seconds, rising)`` flat arrays sorted by time.
     """
     idx = np.arange(len(track)) if index is None else np.asarray(index, dtype=np.intp)
-    sp, cp = math.sin(latitude_deg * DEG_RAD), max(math.cos(latitude_deg * DEG_RAD), 1e-12)
+    if idx.size == 0:
+        return _empty_crossings()
+    floor_obs = np.asarray(limit.min_alt_deg, dtype=float)
+    parts = []
+    f_idx, f_t, f_rising = find_altitude_events(track, last_hours_at, latitude_deg,
+                                                limit.to_geometric_deg(floor_obs[idx]), start_unix, end_unix,
+                                                index=idx)
+    if limit.profile_az_deg.size and f_idx.size:
+        _, az, _ = target_altaz(track, last_hours_at, latitude_deg, f_t, f_idx)
+        keep = _profile_observed_deg(limit, az) < floor_obs[f_idx]
+        f_idx, f_t, f_rising = f_idx[keep], f_t[keep], f_rising[keep]
+    parts.append((f_idx, f_t, f_rising))
+    if limit.profile_az_deg.size:
+        parts.append(_profile_crossings(track, last_hours_at, latitude_deg, limit, idx, start_unix, end_unix))
+    out_idx = np.concatenate([p[0] for p in parts])
+    out_t = np.concatenate([p[1] for p in parts])
+    out_rising = np.concatenate([p[2] for p in parts])
+    order = np.argsort(out_t, kind="stable")
+    return out_idx[order], out_t[order], out_rising[order]
+
+
+def _profile_observed_deg(limit: AltitudeLimit, az_deg):
+    """The profile alone (observed altitude, degrees) at ``az_deg``, without any target's floor."""
+    return np.interp(az_deg, limit.profile_az_deg, limit.profile_alt_deg, period=360.0)
+
+
+def _profile_crossings(track, last_hours_at, latitude_deg, limit, idx, start_unix, end_unix):
+    """Crossings of the profile alone, kept where the profile is above each target's floor."""
+    floor_obs = np.asarray(limit.min_alt_deg, dtype=float)
+    # Targets whose floor is at or above the whole profile never meet it.
+    idx = idx[floor_obs[idx] < float(np.max(limit.profile_alt_deg))]
+    if idx.size == 0:
+        return _empty_crossings()
+    curve = _profile_curve(tuple(np.asarray(limit.profile_az_deg, dtype=float).tolist()),
+                           tuple(np.asarray(limit.profile_alt_deg, dtype=float).tolist()),
+                           float(latitude_deg), bool(limit.refraction), float(limit.pressure_hpa),
+                           float(limit.temperature_c))
     _, dec_mid = track.radec_at(track.mid_unix, idx)
-    low, high = limit.band_geometric_deg()
-    low, high = low[idx], high[idx]
-    max_alt = 90.0 - np.abs(latitude_deg - dec_mid)
-    min_alt = np.abs(latitude_deg + dec_mid) - 90.0
-    if track.parallax_coeffs is not None:
-        # A body's Dec moves across the window: search the band of altitudes its whole Dec range
-        # can reach at the branch's hour angles (the crossing is then placed on the full model).
-        dec_lo, dec_hi = track.dec_range(idx)
-        reach = np.maximum(dec_hi - dec_mid, dec_mid - dec_lo)
-        low, high = low - reach, high + reach
-        max_alt, min_alt = max_alt + reach, min_alt - reach
-    lo_alt = np.maximum(low, min_alt) - 1e-9
-    hi_alt = np.minimum(high, max_alt) + 1e-9
-    sub = np.flatnonzero((max_alt > low) & (min_alt < high))
-    if sub.size == 0:
-        return _empty_crossings()
-    # |H| range of each branch inside the band: from H_b (top of the band) to H_a (bottom).
-    h_a = np.arccos(np.clip(_cos_crossing(np.sin(lo_alt[sub] * DEG_RAD), dec_mid[sub], sp, cp), -1, 1))
-    h_b = np.arccos(np.clip(_cos_crossing(np.sin(hi_alt[sub] * DEG_RAD), dec_mid[sub], sp, cp), -1, 1))
-    # Rising branch: H from -H_a up to -H_b; setting branch: from H_b up to H_a (radians).
-    first_h = np.concatenate([-h_a, h_b])
-    step_h = np.concatenate([h_a - h_b, h_a - h_b]) / (samples_per_branch - 1)
-    col = np.concatenate([idx[sub], idx[sub]])
-    dec_of = np.zeros(len(track))
-    dec_of[idx] = dec_mid
-    table = _LimitTable(limit)
-    rows, cols, lo_h, hi_h, lo_v, hi_v = [], [], [], [], [], []
-    for a in range(0, col.size, _GRID_CHUNK_ROWS):
-        b = min(a + _GRID_CHUNK_ROWS, col.size)
-        values = _branch_grid(first_h[a:b], step_h[a:b], dec_of[col[a:b]], col[a:b], sp, cp,
-                              samples_per_branch, table)
-        above = values > 0.0
-        r, k = np.nonzero(above[:, 1:] != above[:, :-1])
-        rows.append(r + a)
-        cols.append(col[a:b][r])
-        lo_h.append(first_h[a:b][r] + k * step_h[a:b][r])
-        hi_h.append(first_h[a:b][r] + (k + 1) * step_h[a:b][r])
-        lo_v.append(values[r, k])
-        hi_v.append(values[r, k + 1])
-    root_col = np.concatenate(cols)
-    if root_col.size == 0:
-        return _empty_crossings()
-    f_lo, f_hi = np.concatenate(lo_v), np.concatenate(hi_v)
-    rising = f_hi > 0.0
-
-    def f_hour_angle(h_rad, column):
-        return _sin_margin(h_rad, dec_of[column], column, sp, cp, table)
-
-    roots_h = refine_roots(f_hour_angle, np.concatenate(lo_h), np.concatenate(hi_h), f_lo, f_hi, root_col,
-                           tolerance_seconds=1e-6)
-    eps = 1e-5
-    slope = (f_hour_angle(roots_h + eps, root_col) - f_hour_angle(roots_h - eps, root_col)) / (2 * eps)
-    mark = np.arange(root_col.size)
-    cand_idx, cand_t, cand_mark = _mark_candidates(track, last_hours_at, root_col, roots_h / HOUR_RAD, mark,
-                                                   start_unix, end_unix)
-    # Newton in time on the full model; d(margin)/dt = d(margin)/dH * dH/dt.
-    rate = slope[cand_mark] * (SIDEREAL_RATE_HOURS_PER_SECOND * HOUR_RAD)
+    z_mid = np.sin(dec_mid * DEG_RAD)
     moving = track.parallax_coeffs is not None
     if moving:
-        # The grid used the mid-window Dec; a body may be minutes away from it. Re-measure the
-        # slope of the margin in time on the full model and take Newton steps from there.
-        cand_t = _limit_newton(track, last_hours_at, latitude_deg, limit, cand_t, cand_idx)
+        # A body's declination moves across the window: every piece its declination range meets
+        # is a candidate, followed in time below.
+        dec_lo, dec_hi = track.dec_range(idx)
+        piece, star = curve.match_range(np.sin(dec_lo * DEG_RAD), np.sin(dec_hi * DEG_RAD))
+        z_guess = np.clip(z_mid[star], curve.piece_lo[piece], curve.piece_hi[piece])
     else:
-        for _ in range(2):
-            alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, cand_t, cand_idx)
-            margin = np.sin(alt * DEG_RAD) - np.sin(limit.geometric_deg(az, cand_idx) * DEG_RAD)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                step = np.where(rate != 0.0, -margin / rate, 0.0)
-            cand_t = cand_t + np.clip(step, -60.0, 60.0)
-    keep = in_window(cand_t, start_unix, end_unix) & np.isfinite(cand_t)
-    out_idx, out_t, out_mark = _sorted(cand_idx[keep], cand_t[keep], cand_mark[keep])
+        piece, star = curve.match(z_mid)
+        z_guess = z_mid[star]
+    if piece.size == 0:
+        return _empty_crossings()
+    alt_obs, ha_rad, seg = curve.solve(piece, z_guess)
+    if not moving:
+        keep = alt_obs > floor_obs[idx[star]]
+        piece, star, ha_rad, seg = piece[keep], star[keep], ha_rad[keep], seg[keep]
+    ha_hours = ha_rad / HOUR_RAD
+    targets = idx[star]
+    rising = curve.piece_rising[piece]
+    mark = np.arange(targets.size)
+    cand_idx, cand_t, cand_mark = _mark_candidates(track, last_hours_at, targets, ha_hours, mark,
+                                                   start_unix, end_unix)
     if moving:
-        out_idx, out_t, out_mark = _dedupe(out_idx, out_t, out_mark, by_mark=False)
+        cand_t, seg_c, ok = _follow_moving(track, last_hours_at, curve, piece[cand_mark], cand_idx, cand_t)
+        alt_c, _, _ = curve.solve(piece[cand_mark], np.sin(track.hadec_at(cand_t, last_hours_at, cand_idx)[1]
+                                                            * DEG_RAD))
+        ok &= alt_c > floor_obs[cand_idx]
+        cand_idx, cand_t, cand_mark, seg_c = cand_idx[ok], cand_t[ok], cand_mark[ok], seg_c[ok]
+    else:
+        # One hour-angle step as in find_hour_angle_events puts each guess on the crossing's hour
+        # angle.
+        ra = track.ra_at(cand_t, cand_idx)
+        cand_t = cand_t + _wrap12(ha_hours[cand_mark] - (last_hours_at(cand_t) - ra)) \
+            * (1.0 / SIDEREAL_RATE_HOURS_PER_SECOND)
+        seg_c = seg[cand_mark]
+    cand_t, ok = _polish_profile_crossings(track, last_hours_at, latitude_deg, curve, seg_c, cand_idx, cand_t,
+                                           rising[cand_mark])
+    keep = ok & in_window(cand_t, start_unix, end_unix)
+    out_idx, out_t, out_mark = cand_idx[keep], cand_t[keep], cand_mark[keep]
+    if moving:
+        order = np.argsort(out_t, kind="stable")
+        out_idx, out_t, out_mark = _dedupe(out_idx[order], out_t[order], out_mark[order], by_mark=False)
     return out_idx, out_t, rising[out_mark]
 
 
-def _limit_newton(track, last_hours_at, latitude_deg, limit, cand_t, cand_idx):
-    """Newton steps in time on ``sin(alt) - sin(limit(az))`` with a numerical slope; nan if not converged."""
-    def margin(t):
-        alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, t, cand_idx)
-        return np.sin(alt * DEG_RAD) - np.sin(limit.geometric_deg(az, cand_idx) * DEG_RAD)
-
-    step = np.zeros(cand_t.shape)
+def _follow_moving(track, last_hours_at, curve, piece, idx, t):
+    """Fixed-point steps in time for bodies whose declination moves: at each step the body's
+    current topocentric declination picks the point of its piece, whose hour angle the body is
+    then stepped to at its own hour-angle rate. Converged where the step is below
+    ``_CONVERGED_HOURS`` with the declination inside the piece's range; returns ``(t, seg, ok)``."""
+    step = np.zeros(t.shape)
+    z = np.zeros(t.shape)
     for _ in range(track.refine_steps + 3):
-        m0 = margin(cand_t)
-        slope = (margin(cand_t + 1.0) - m0) / 1.0
+        ha, dec = track.hadec_at(t, last_hours_at, idx)
+        z = np.sin(dec * DEG_RAD)
+        _, ha_point, seg = curve.solve(piece, np.clip(z, curve.piece_lo[piece], curve.piece_hi[piece]))
+        rate = SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(t, idx)
+        step = _wrap12(ha_point / HOUR_RAD - ha)
+        t = t + np.clip(step / rate, -1800.0, 1800.0)
+    ok = (np.abs(step) < _CONVERGED_HOURS) & (z >= curve.piece_lo[piece]) & (z <= curve.piece_hi[piece])
+    return t, seg, ok
+
+
+def _polish_profile_crossings(track, last_hours_at, latitude_deg, curve, seg, idx, t, rising):
+    """Newton steps in time on the full model against each crossing's own segment.
+
+    The margin is the target's altitude (track place, diurnal aberration) minus the segment's
+    geometric altitude at the target's azimuth, the segment's straight line extended past its
+    ends: a smooth function, whatever the neighbouring segments do (with points 0.01 deg apart a
+    target passes several segments a second, so a difference quotient over the whole profile
+    would straddle kinks). Its rate is exact: ``dh/dt = w cos(lat) sin A`` and ``dA/dt = w (sin(lat)
+    - cos(lat) tan h cos A)``, w the sidereal rate. The first guesses are off only by the
+    declination's drift since the window centre; a crossing that drifted onto the next segment
+    is then placed on this one's extension, off by the drift's share of the bend (sub-millisecond).
+
+    Returns the times and a flag that is False where the crossing vanished (a grazing pair that
+    merged in the window: the rate has the wrong sign or the step is implausibly long).
+    """
+    if idx.size == 0:
+        return t, np.zeros(0, dtype=bool)
+    ok = np.ones(idx.shape, dtype=bool)
+    sp, cp = math.sin(latitude_deg * DEG_RAD), math.cos(latitude_deg * DEG_RAD)
+    omega = SIDEREAL_RATE_HOURS_PER_SECOND * HOUR_RAD
+    if track.parallax_coeffs is not None:  # a body turns at its own hour-angle rate
+        omega = (SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(t, idx)) * HOUR_RAD
+    for _ in range(2):
+        alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, t, idx)
+        limit_deg, slope_deg_per_deg = curve.line_deg(seg, az)
+        a, h = az * DEG_RAD, alt * DEG_RAD
+        dh_dt = omega * cp * np.sin(a)
+        da_dt = omega * (sp - cp * np.tan(h) * np.cos(a))
+        rate = dh_dt - slope_deg_per_deg * da_dt  # radians (= degrees per degree) per second
+        ok &= np.where(rising, rate > 0.0, rate < 0.0)
         with np.errstate(divide="ignore", invalid="ignore"):
-            step = np.where(slope != 0.0, -m0 / slope, 0.0)
-        cand_t = cand_t + np.clip(step, -1800.0, 1800.0)
-    return np.where(np.abs(step) < 0.01, cand_t, np.nan)
+            step = np.where(ok, -(alt - limit_deg) * DEG_RAD / rate, 0.0)
+        ok &= np.abs(step) < _POLISH_LIMIT_SECONDS
+        t = t + np.where(ok, step, 0.0)
+    return t, ok
 
 
-class _LimitTable:
-    """sin(geometric limit) tabulated against a cheap pseudo-angle of azimuth, for grid scans.
+@dataclass(frozen=True, eq=False)
+class _CurvePoint:
+    """Points of the profile curve (arrays of one shape)."""
 
-    The pseudo-angle ("diamond angle") of a horizontal direction (north, east) is
-    ``east / (|north| + |east|)`` folded onto [0, 4): monotonic in azimuth, with no arctangent.
-    Only brackets come from this table; roots are polished against the exact limit.
+    alt_obs_deg: np.ndarray  # observed altitude of the profile there
+    z: np.ndarray  # sin(true declination) of the direction seen there
+    dz_du: np.ndarray  # its derivative along the segment parameter u
+    x_h: np.ndarray  # true direction in the hour-angle frame (unnormalised; H = atan2(y_h, x_h))
+    y_h: np.ndarray
+
+
+class _ProfileCurve:
+    """A horizon profile as a closed curve, cut into pieces of monotone declination.
+
+    Segments: the profile's straight segments (observed altitude linear in azimuth, the last one
+    wrapping through north), further cut where the observed altitude passes a kink of the
+    refraction formula. On segment s a point is ``A = a0 + u da``, ``P = p0 + u dp`` for u in
+    [0, 1]; its geometric altitude is ``G = P - R(P)`` (or ``P`` with refraction off). Its
+    direction seen at the site is turned into a true (unaberrated) hour angle and declination by
+    removing diurnal aberration; ``z = sin(true declination)``.
+
+    Pieces: maximal runs of a segment between break nodes. Break nodes are the segment ends and
+    the ends of the spans that could not be certified free of turning points of z (see
+    :func:`_profile_curve`); between them ``dz/du`` keeps one sign, so z is strictly monotone.
     """
 
-    SIZE = 8192
+    def __init__(self, lat_deg, aberration_rad, seg_a0, seg_da, seg_p0, seg_dp, refraction, pressure,
+                 temperature):
+        self.sin_lat = math.sin(lat_deg * DEG_RAD)
+        self.cos_lat = math.cos(lat_deg * DEG_RAD)
+        self.k = aberration_rad
+        self.a0, self.da, self.p0, self.dp = seg_a0, seg_da, seg_p0, seg_dp
+        self.refraction, self.pressure, self.temperature = refraction, pressure, temperature
 
-    def __init__(self, limit: AltitudeLimit):
-        d = (np.arange(self.SIZE + 1) + 0.0) * (4.0 / self.SIZE)
-        north, east = _diamond_direction(d)
-        az = np.arctan2(east, north) / DEG_RAD
-        az = az - 360.0 * np.floor(az / 360.0)
-        if limit.profile_az_deg.size:
-            observed = np.interp(az, limit.profile_az_deg, limit.profile_alt_deg, period=360.0)
-            self.profile_sin = np.sin(limit.to_geometric_deg(observed) * DEG_RAD)
+    def geometric_deg(self, observed_deg):
+        if not self.refraction:
+            return observed_deg
+        return observed_deg - refraction_deg(observed_deg, self.pressure, self.temperature)
+
+    def point(self, seg, u) -> _CurvePoint:
+        """Position, ``z`` and ``dz/du`` at parameter ``u`` of segments ``seg`` (arrays)."""
+        da = self.da[seg]
+        dp = self.dp[seg]
+        a = (self.a0[seg] + u * da) * DEG_RAD
+        p = self.p0[seg] + u * dp
+        g = self.geometric_deg(p)
+        if self.refraction:
+            # dG/dP = 1 - dR/dP, taken just inside the segment: its ends may sit on a kink of R.
+            inside = self.p0[seg] + np.clip(u, 1e-9, 1.0 - 1e-9) * dp
+            g_slope = 1.0 - refraction_slope(inside, self.pressure, self.temperature)
         else:
-            self.profile_sin = np.full(az.shape, -1.0)
-        self.min_sin = np.sin(limit.to_geometric_deg(limit.min_alt_deg) * DEG_RAD)
+            g_slope = np.ones_like(g)
+        dg = g_slope * dp * DEG_RAD  # dG/du, radians
+        da_rad = da * DEG_RAD
+        g_rad = g * DEG_RAD
+        sa, ca, sg, cg = np.sin(a), np.cos(a), np.sin(g_rad), np.cos(g_rad)
+        sp, cp = self.sin_lat, self.cos_lat
+        # Hour-angle frame (x towards the meridian's upper point of the equator, y west, z pole).
+        north = cg * ca
+        x_h = cp * sg - sp * north
+        y_h = -cg * sa
+        z_h = sp * sg + cp * north
+        dz_h = sp * cg * dg + cp * (-sg * dg * ca - cg * sa * da_rad)
+        dy_h = sg * dg * sa - cg * ca * da_rad
+        # Seen direction = true direction shifted by k towards the east (-y): undo it.
+        w = 1.0 / np.sqrt(1.0 + 2.0 * self.k * y_h + self.k * self.k)
+        z = z_h * w
+        dz = dz_h * w - z_h * self.k * dy_h * w ** 3
+        return _CurvePoint(p, z, dz, x_h, y_h + self.k)
 
-    def sin_limit(self, north, east, column):
-        """sin(geometric limit) for directions (north, east) of targets ``column``."""
-        s = np.abs(north) + np.abs(east)
+    def finish(self, node_seg, node_u, breaks):
+        """Set the node table and pieces from nodes sorted by (segment, u) and break flags."""
+        pt = self.point(node_seg, node_u)
+        node_z = pt.z
+        self.node_seg, self.node_u, self.node_z = node_seg, node_u, node_z
+        self.node_alt, self.node_x, self.node_y = pt.alt_obs_deg, pt.x_h, pt.y_h
+        first = np.flatnonzero(breaks)[:-1]
+        last = np.flatnonzero(breaks)[1:]
+        same = node_seg[first] == node_seg[last]
+        first, last = first[same], last[same]
+        self.piece_first, self.piece_last = first, last
+        z_first, z_last = node_z[first], node_z[last]
+        self.piece_lo = np.minimum(z_first, z_last)
+        self.piece_hi = np.maximum(z_first, z_last)
+        # Rising where the declination falls along the curve (see find_limit_events).
+        self.piece_rising = z_last < z_first
+        # Lookup table: each piece's nodes, keyed so that the keys increase through the table.
+        length = last - first + 1
+        piece_of = np.repeat(np.arange(first.size), length)
+        node = np.arange(length.sum()) - np.repeat(np.cumsum(length) - length, length) + first[piece_of]
+        orient = np.where(self.piece_rising, -1.0, 1.0)
+        self.table_node = node
+        self.table_key = 4.0 * piece_of + orient[piece_of] * node_z[node]
+        self.table_start = np.cumsum(length) - length
+
+    def match_range(self, z_low, z_high):
+        """Every (piece, body) whose z range [z_low, z_high] meets the piece's (for moving bodies)."""
+        meets = (z_low[None, :] <= self.piece_hi[:, None]) & (z_high[None, :] >= self.piece_lo[:, None])
+        return np.nonzero(meets)
+
+    def match(self, z_star):
+        """Every (piece, star) with the star's z in the piece's half-open range [lo, hi)."""
+        order = np.argsort(z_star, kind="stable")
+        zs = z_star[order]
+        lo = np.searchsorted(zs, self.piece_lo, side="left")
+        hi = np.searchsorted(zs, self.piece_hi, side="left")
+        count = hi - lo
+        piece = np.repeat(np.arange(lo.size), count)
+        pos = np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count) + np.repeat(lo, count)
+        return piece, order[pos]
+
+    def solve(self, piece, z_target):
+        """Where each piece reaches ``z_target``: observed altitude (deg) and true hour angle (rad).
+
+        Linear interpolation in the node table: the nodes are at most 1 deg apart along the
+        curve, so the point is off by a few arcseconds at most, which the polishing in time removes.
+        """
+        orient = np.where(self.piece_rising[piece], -1.0, 1.0)
+        key = 4.0 * piece + orient * z_target
+        pos = np.searchsorted(self.table_key, key, side="right")
+        lo_pos = self.table_start[piece]
+        hi_pos = lo_pos + (self.piece_last[piece] - self.piece_first[piece])
+        pos = np.clip(pos, lo_pos + 1, hi_pos)
+        n0, n1 = self.table_node[pos - 1], self.table_node[pos]
+        z0, z1 = self.node_z[n0], self.node_z[n1]
         with np.errstate(divide="ignore", invalid="ignore"):
-            p = np.where(s > 0.0, east / s, 0.0)
-        d = np.where(north >= 0.0, p, 2.0 - p)
-        d = np.where(d < 0.0, d + 4.0, d) * (self.SIZE / 4.0)
-        i = np.minimum(d.astype(np.intp), self.SIZE - 1)
-        w = d - i
-        value = self.profile_sin[i] * (1.0 - w) + self.profile_sin[i + 1] * w
-        return np.maximum(value, self.min_sin[column])
+            w = np.clip(np.where(z1 != z0, (z_target - z0) / (z1 - z0), 0.5), 0.0, 1.0)
+        alt = self.node_alt[n0] + w * (self.node_alt[n1] - self.node_alt[n0])
+        x = self.node_x[n0] + w * (self.node_x[n1] - self.node_x[n0])
+        y = self.node_y[n0] + w * (self.node_y[n1] - self.node_y[n0])
+        return alt, np.arctan2(y, x), self.node_seg[n0]
+
+    def line_deg(self, seg, az_deg):
+        """Segment ``seg``'s geometric altitude at ``az_deg`` (its line extended) and its slope dG/dA."""
+        da, dp = self.da[seg], self.dp[seg]
+        # Azimuth from the segment's start, measured within half a turn of the segment's middle.
+        rel = az_deg - self.a0[seg] - 0.5 * da
+        rel = rel - 360.0 * np.floor((rel + 180.0) / 360.0) + 0.5 * da
+        with np.errstate(divide="ignore", invalid="ignore"):
+            slope_obs = np.where(da > 0.0, dp / da, 0.0)
+        observed = self.p0[seg] + rel * slope_obs
+        g = self.geometric_deg(observed)
+        g_slope = 1.0
+        if self.refraction:
+            g_slope = 1.0 - refraction_slope(observed, self.pressure, self.temperature)
+        return g, g_slope * slope_obs
 
 
-def _diamond_direction(d):
-    """Inverse of the pseudo-angle: a (north, east) direction for each d in [0, 4]."""
-    d = np.asarray(d, dtype=float)
-    p = np.where(d <= 1.0, d, np.where(d >= 3.0, d - 4.0, 2.0 - d))  # east / (|n| + |e|)
-    north = np.where((d <= 1.0) | (d >= 3.0), 1.0 - np.abs(p), -(1.0 - np.abs(p)))
-    return north, p
+@functools.lru_cache(maxsize=32)
+def _profile_curve(az_points, alt_points, lat_deg, refraction, pressure, temperature) -> _ProfileCurve:
+    """The pieces of monotone declination of one horizon profile (cached: depends on no target).
+
+    Turning points of ``z(u)`` are the zeros of ``dz/du``. On a span of width ``delta`` (in u)
+    whose ends both have ``|dz/du| > M delta + E``, with M a bound on ``|d2z/du2|`` over the
+    segment and E a bound on the error of the computed ``dz/du``, ``dz/du`` cannot vanish (it
+    would have to fall by more than ``M delta``): the span is certified. Uncertain spans are
+    split in 8 until certified or narrower than ``max(1e-10, 4 E / M)``; the ends of those left are
+    made break nodes. M comes from differentiating ``z = sin(lat) sin G + cos(lat) cos G cos A``
+    twice: ``|sin lat| (G'^2 + |G''|) + cos(lat) ((|G'| + |A'|)^2 + |G''|)``, with
+    ``|G'| <= (1 + max R') |P'|`` and ``|G''| <= max R'' P'^2`` (radians), enlarged for the
+    aberration factor.
+    """
+    az = np.asarray(az_points, dtype=float)
+    alt = np.asarray(alt_points, dtype=float)
+    k = _DIURNAL_ABERRATION_RAD * math.cos(lat_deg * DEG_RAD)
+    # Segments, the last wrapping through north (a single point gives one full-circle segment).
+    a0 = az
+    a1 = np.concatenate([az[1:], az[:1] + 360.0])
+    p0 = alt
+    p1 = np.concatenate([alt[1:], alt[:1]])
+    scale = float(pressure / 1010.0 * 283.0 / (273.0 + temperature)) if refraction else 0.0
+    if refraction:
+        # Cut at the refraction formula's kinks so that G is smooth inside every segment.
+        u_cut = []
+        for kink in _refraction_kinks_deg():
+            with np.errstate(divide="ignore", invalid="ignore"):
+                u = (kink - p0) / (p1 - p0)
+            u_cut.append(np.where((u > 0.0) & (u < 1.0), u, np.nan))
+        u_all = np.concatenate([np.zeros((1, a0.size)), np.array(u_cut), np.ones((1, a0.size))])
+        u_all = np.sort(u_all, axis=0)  # NaN last
+        seg_a0, seg_da, seg_p0, seg_dp = [], [], [], []
+        for s in range(a0.size):
+            us = u_all[:, s]
+            us = np.unique(us[np.isfinite(us)])
+            for ua, ub in zip(us[:-1], us[1:], strict=True):
+                seg_a0.append(a0[s] + ua * (a1[s] - a0[s]))
+                seg_da.append((ub - ua) * (a1[s] - a0[s]))
+                seg_p0.append(p0[s] + ua * (p1[s] - p0[s]))
+                seg_dp.append((ub - ua) * (p1[s] - p0[s]))
+        seg_a0, seg_da = np.array(seg_a0), np.array(seg_da)
+        seg_p0, seg_dp = np.array(seg_p0), np.array(seg_dp)
+    else:
+        seg_a0, seg_da, seg_p0, seg_dp = a0, a1 - a0, p0, p1 - p0
+    curve = _ProfileCurve(lat_deg, k, seg_a0, seg_da, seg_p0, seg_dp, refraction, pressure, temperature)
+
+    sp, cp = abs(math.sin(lat_deg * DEG_RAD)), math.cos(lat_deg * DEG_RAD)
+    dp_rad = np.abs(seg_dp) * DEG_RAD
+    da_rad = np.abs(seg_da) * DEG_RAD
+    g1 = (1.0 + _REFRACTION_SLOPE_MAX * scale) * dp_rad
+    g2 = _REFRACTION_CURVATURE_MAX_PER_RAD * scale * dp_rad ** 2
+    bound = sp * (g1 ** 2 + g2) + cp * ((g1 + da_rad) ** 2 + g2)
+    bound = bound * (1.0 + 1e-6) + 8.0 * k * ((g1 + da_rad) ** 2 + g2) + 1e-15
+    # dz/du is computed in closed form: only rounding (a few ulp of its terms) is left.
+    error = 1e-13 * (1.0 + g1 + da_rad)
+    smallest = np.maximum(1e-10, 4.0 * error / bound)
+
+    # Coarse nodes: about every degree of azimuth plus altitude along each segment.
+    count = 4 + np.ceil((np.abs(seg_da) + np.abs(seg_dp)) / _CURVE_NODE_SPACING_DEG).astype(int)
+    seg = np.repeat(np.arange(seg_a0.size), count + 1)
+    u = np.arange(seg.size) - np.repeat(np.cumsum(count + 1) - (count + 1), count + 1)
+    u = u / count[seg]
+    pt = curve.point(seg, u)
+    all_seg, all_u = [seg], [u]
+    # Spans between consecutive nodes of one segment.
+    inner = np.flatnonzero(seg[1:] == seg[:-1])
+    span_seg, span_a, span_b = seg[inner], u[inner], u[inner + 1]
+    span_da, span_db = pt.dz_du[inner], pt.dz_du[inner + 1]
+    leftover_seg, leftover_a, leftover_b = [], [], []
+    for _ in range(_CURVE_MAX_LEVELS):
+        width = span_b - span_a
+        certified = np.maximum(np.abs(span_da), np.abs(span_db)) > bound[span_seg] * width + error[span_seg]
+        # A segment along which z does not change at all (a flat profile seen from a pole) has
+        # no turning point to find: its z is constant and it can only be grazed, never crossed.
+        constant = (np.abs(span_da) <= error[span_seg]) & (np.abs(span_db) <= error[span_seg]) \
+            & (bound[span_seg] <= 1e-12)
+        uncertain = ~(certified | constant)
+        final = uncertain & (width <= smallest[span_seg] * _CURVE_SPLIT)
+        leftover_seg.append(span_seg[final])
+        leftover_a.append(span_a[final])
+        leftover_b.append(span_b[final])
+        split = np.flatnonzero(uncertain & ~final)
+        if split.size == 0:
+            break
+        frac = np.arange(1, _CURVE_SPLIT) / _CURVE_SPLIT
+        s_seg = np.repeat(span_seg[split], _CURVE_SPLIT - 1)
+        s_u = (span_a[split, None] + (span_b - span_a)[split, None] * frac[None, :]).ravel()
+        new = curve.point(s_seg, s_u)
+        all_seg.append(s_seg)
+        all_u.append(s_u)
+        edges_u = np.concatenate([span_a[split, None], s_u.reshape(-1, _CURVE_SPLIT - 1),
+                                  span_b[split, None]], axis=1)
+        edges_d = np.concatenate([span_da[split, None], new.dz_du.reshape(-1, _CURVE_SPLIT - 1),
+                                  span_db[split, None]], axis=1)
+        span_seg = np.repeat(span_seg[split], _CURVE_SPLIT)
+        span_a, span_b = edges_u[:, :-1].ravel(), edges_u[:, 1:].ravel()
+        span_da, span_db = edges_d[:, :-1].ravel(), edges_d[:, 1:].ravel()
+    else:
+        leftover_seg.append(span_seg)
+        leftover_a.append(span_a)
+        leftover_b.append(span_b)
+    node_seg = np.concatenate(all_seg)
+    node_u = np.concatenate(all_u)
+    order = np.lexsort((node_u, node_seg))
+    node_seg, node_u = node_seg[order], node_u[order]
+    breaks = np.zeros(node_seg.size, dtype=bool)
+    breaks[0] = breaks[-1] = True
+    breaks[1:] |= node_seg[1:] != node_seg[:-1]
+    breaks[:-1] |= node_seg[1:] != node_seg[:-1]
+    lo_seg, lo_a, lo_b = (np.concatenate(x) for x in (leftover_seg, leftover_a, leftover_b))
+    if lo_seg.size:
+        # Adjacent uncertain spans form one cluster around a turning point: break at its two ends.
+        order = np.lexsort((lo_a, lo_seg))
+        lo_seg, lo_a, lo_b = lo_seg[order], lo_a[order], lo_b[order]
+        joined = (lo_seg[1:] == lo_seg[:-1]) & (lo_a[1:] == lo_b[:-1])
+        first = np.concatenate([[True], ~joined])
+        last = np.concatenate([~joined, [True]])
+        key = node_seg.astype(float) * 2.0 + node_u  # u in [0, 1]: unique, increasing keys
+        for seg_of, ends in ((lo_seg[first], lo_a[first]), (lo_seg[last], lo_b[last])):
+            where = np.searchsorted(key, seg_of * 2.0 + ends)
+            breaks[np.clip(where, 0, key.size - 1)] = True
+    curve.finish(node_seg, node_u, breaks)
+    return curve
 
 
-def _branch_grid(first_h, step_h, dec_deg, column, sin_lat, cos_lat, samples, table):
-    """(rows, samples) sin(altitude) - sin(limit) along each branch, by a rotation recurrence."""
-    d = dec_deg * DEG_RAD
-    sd, cd = np.sin(d), np.cos(d)
-    c, s = np.cos(first_h), np.sin(first_h)
-    cs, ss = np.cos(step_h), np.sin(step_h)
-    out = np.empty((first_h.size, samples))
-    up_const = sin_lat * sd
-    north_const = cos_lat * sd
-    for k in range(samples):
-        xh = c * cd
-        north = north_const - sin_lat * xh
-        up = up_const + cos_lat * xh
-        east = s * cd  # -y_h with y_h = sin H cos d... azimuth = atan2(-y_h, north)
-        out[:, k] = up - table.sin_limit(north, -east, column)
-        c, s = c * cs - s * ss, s * cs + c * ss
-    return out
-
-
-def _sin_margin(h_rad, dec_deg, column, sin_lat, cos_lat, table):
-    """sin(altitude) - sin(limit) at hour angle ``h_rad`` (no time dependence; Dec fixed)."""
-    d = dec_deg * DEG_RAD
-    sd, cd = np.sin(d), np.cos(d)
-    xh = np.cos(h_rad) * cd
-    yh = np.sin(h_rad) * cd
-    north = cos_lat * sd - sin_lat * xh
-    up = sin_lat * sd + cos_lat * xh
-    return up - table.sin_limit(north, -yh, column)
+@functools.cache
+def _refraction_kinks_deg():
+    """Observed altitudes at which the refraction formula has a kink: the foot and the top of the
+    below-horizon taper, and where refined Bennett reaches zero near the zenith (found here)."""
+    lo, hi = 80.0, 90.0
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        if float(refraction_deg(mid)) > 0.0:
+            lo = mid
+        else:
+            hi = mid
+    return (BELOW_HORIZON_TAPER_DEG, 0.0, hi)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -918,8 +1231,13 @@ def _cos_crossing(sin_h0, dec_deg, sin_lat, cos_lat):
         return (sin_h0 - sin_lat * np.sin(d)) / (cos_lat * np.cos(d))
 
 
-def _altaz(ha_hours, dec_deg, latitude_deg):
-    """Geometric altitude and azimuth (ERFA hd2ae geometry), degrees."""
+def _altaz(ha_hours, dec_deg, latitude_deg, *, aberration=False):
+    """Geometric altitude and azimuth (ERFA hd2ae geometry), degrees.
+
+    With ``aberration`` the direction is first shifted towards the east point by diurnal
+    aberration (first order, as ERFA's ``apco``/``atioq`` do): the seen direction is
+    ``(x_h, y_h - k, z_h)`` normalised, with ``k = omega R cos(lat) / c``.
+    """
     h = np.asarray(ha_hours) * HOUR_RAD
     d = np.asarray(dec_deg) * DEG_RAD
     sp, cp = math.sin(latitude_deg * DEG_RAD), math.cos(latitude_deg * DEG_RAD)
@@ -927,6 +1245,10 @@ def _altaz(ha_hours, dec_deg, latitude_deg):
     sd = np.sin(d)
     xh = np.cos(h) * cd
     yh = np.sin(h) * cd
+    if aberration:
+        k = _DIURNAL_ABERRATION_RAD * cp
+        inv = 1.0 / np.sqrt(1.0 - 2.0 * k * yh + k * k)
+        xh, yh, sd = xh * inv, (yh - k) * inv, sd * inv
     north = cp * sd - sp * xh
     up = cp * xh + sp * sd
     az = np.arctan2(-yh, north) * (1.0 / DEG_RAD)

@@ -42,6 +42,7 @@ __all__ = [
     "airmass",
     "refraction_deg",
     "refraction_from_true_deg",
+    "refraction_slope",
     "standard_pressure_hpa",
 ]
 
@@ -109,6 +110,38 @@ def refraction_from_true_deg(alt_true_deg, pressure_hpa=1010.0, temperature_c=10
     for _ in range(2 if scales.size == 1 else 8):
         r = refraction_deg(h_true + r, 1010.0, 10.0) * scale
     return r[()]
+
+
+def refraction_slope(alt_apparent_deg, pressure_hpa=1010.0, temperature_c=10.0):
+    """dR/dh of :func:`refraction_deg`: degrees of refraction per degree of apparent altitude.
+
+    Differentiated in closed form, piece by piece: refined Bennett above 0 deg (zero where it is
+    clamped near the zenith), the constant slope of the linear taper between -5 and 0 deg, zero
+    below. At the kinks (0 deg, -5 deg) it gives the value of the piece above.
+
+    Args:
+        alt_apparent_deg (array_like): apparent altitude, degrees, any shape.
+        pressure_hpa, temperature_c (array_like): weather, as for :func:`refraction_deg`.
+
+    Returns:
+        ndarray: dR/dh (dimensionless, <= 0 above the horizon, > 0 on the taper).
+
+    Example:
+        >>> h = 20.0
+        >>> numeric = float(refraction_deg(h + 1e-5) - refraction_deg(h - 1e-5)) / 2e-5
+        >>> abs(float(refraction_slope(h)) - numeric) < 1e-8
+        True
+    """
+    h = np.asarray(alt_apparent_deg, dtype=float)
+    hp = np.maximum(h, 0.0)
+    x = np.radians(hp + 7.31 / (hp + 4.4))
+    r0 = 1.0 / np.tan(x)  # arcminutes
+    dr0 = -np.radians(1.0 - 7.31 / (hp + 4.4) ** 2) / np.sin(x) ** 2  # arcminutes per degree
+    phase = np.radians(14.7 * r0 + 13.0)
+    refined = r0 - 0.06 * np.sin(phase)
+    slope = np.where(refined > 0.0, dr0 * (1.0 - 0.06 * 14.7 * np.radians(1.0) * np.cos(phase)), 0.0) / 60.0
+    taper = np.where(h > BELOW_HORIZON_TAPER_DEG, -_HORIZON_R_DEG / BELOW_HORIZON_TAPER_DEG, 0.0)
+    return np.where(h >= 0.0, slope, taper) * _scale(pressure_hpa, temperature_c)
 
 
 def standard_pressure_hpa(elevation_m):

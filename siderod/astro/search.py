@@ -1,7 +1,8 @@
 """Generic root and extremum finders over time windows: arrays in, arrays out.
 
 The event engine (``events.py``) uses these for the cases with no closed form: the Sun and the Moon
-crossing a standard altitude, and a star crossing a horizon profile whose height depends on azimuth.
+crossing a standard altitude. (A star crossing a horizon profile needs no scan: see
+``events.find_limit_events``.)
 
 Method (bracket first, then refine), chosen after the pitfall in which a root finder started from
 one guess near a shallow altitude extremum skips a pair of crossings:

@@ -35,7 +35,7 @@ from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, obser
 from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
 from siderod.plan.moving import ephemeris_for, is_moving, moving_places
-from siderod.plan.positions import observer_for, target_stars
+from siderod.plan.positions import altitude_limit, observer_for, target_stars
 
 __all__ = [
     "Agenda",
@@ -191,13 +191,7 @@ def _choose_targets(all_targets: tuple[Target, ...], names: Collection[str] | No
 
 
 def _limit_for(config: Config, targets: list[Target], observer: Observer) -> ev.AltitudeLimit:
-    floor = np.array([config.events.min_altitude_deg if t.min_altitude_deg is None else t.min_altitude_deg
-                      for t in targets], dtype=float)
-    profile = np.array(config.site.horizon, dtype=float).reshape(-1, 2)
-    return ev.AltitudeLimit(min_alt_deg=floor, profile_az_deg=profile[:, 0], profile_alt_deg=profile[:, 1],
-                            refraction=bool(config.events.refraction and observer.effective_pressure_hpa > 0),
-                            pressure_hpa=observer.effective_pressure_hpa,
-                            temperature_c=observer.temperature_c)
+    return altitude_limit(config, targets)  # the one definition, shared with `now` and the board
 
 
 def _target_pieces(config, observer, group, start_unix, end_unix, wanted, records):
@@ -230,7 +224,7 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
             track = ev.build_track(stars, piece_start, piece_end, dut1_seconds=dut1)
         if up_at_start is None:
             alt, az, _ = ev.target_altaz(track, last, lat, np.full(len(group), start_unix))
-            up_at_start = (alt > limit.geometric_deg(az)).tolist()
+            up_at_start = (alt >= limit.geometric_deg(az)).tolist()
         maker = _EventMaker(track, last, lat, limit, names, records)
         _hour_angle_kinds(config, maker, track, last, lat, piece_start, piece_end, wanted)
         # Rise and set: always computed (classification and dark intervals need them).
@@ -310,7 +304,7 @@ class _EventMaker:
         if idx.size == 0:
             return
         alt, az, ha, floor = self._state(idx, times)
-        usable = alt > floor
+        usable = alt >= floor  # usable at or above the limit, as in `now` and on the board
         wrapped_mark = mark_hours - 24.0 * math.floor((mark_hours + 12.0) / 24.0)
         is_culmination = kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION)
         for j, t, a, z, h, u in zip(idx.tolist(), times.tolist(), alt.tolist(), az.tolist(), ha.tolist(),
@@ -338,7 +332,7 @@ class _EventMaker:
 def _fixed_usable(config: Config, target: Target) -> bool:
     alt_geo, az = hadec_to_altaz(target.ha_hours, target.dec_deg, config.site.latitude_deg)
     limit = _limit_for(config, [target], observer_for(config))
-    return bool(alt_geo > limit.geometric_deg(np.atleast_1d(az), np.array([0]))[0])
+    return bool(alt_geo >= limit.geometric_deg(np.atleast_1d(az), np.array([0]))[0])
 
 
 def _classify(up_at_start: bool, crossing_count: int) -> str:

@@ -14,6 +14,7 @@ import numpy as np
 
 from siderod.astro.angles import wrap_hours_12, wrap_hours_24
 from siderod.astro.ephemeris import observe_apparent
+from siderod.astro.events import AltitudeLimit
 from siderod.astro.places import Observer, Stars, hadec_to_altaz, observe, stars_from_radec
 from siderod.astro.refraction import airmass, refraction_from_true_deg
 from siderod.astro.sidereal import last_hours, lmst_hours
@@ -25,6 +26,7 @@ from siderod.plan.moving import ephemeris_for, is_moving, moving_places
 __all__ = [
     "TWILIGHT_LIMITS_DEG",
     "SkyState",
+    "altitude_limit",
     "compute_sky",
     "horizon_altitude_deg",
     "observer_for",
@@ -56,7 +58,9 @@ class SkyState:
         rising: True while the altitude is increasing (east of the meridian); False for fixed
             hour-angle pointings, whose altitude does not change.
         min_alt_deg: the lowest usable altitude here and now: the larger of the target's (or the
-            global) ``min_altitude`` and the horizon profile at the target's azimuth.
+            global) ``min_altitude`` and the horizon profile at the target's azimuth (without a
+            profile, the ``min_altitude`` alone) -- :func:`altitude_limit`, the agenda's definition.
+            A target is usable when ``alt_deg >= min_alt_deg`` and below its limit otherwise.
         sun_separation_deg: angular distance from the Sun's centre, degrees.
         unix_seconds, jd_utc, dut1_seconds: the instant, and the DUT1 used.
         lmst_hours, last_hours: local mean and apparent sidereal time, hours [0, 24).
@@ -158,9 +162,6 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
         alt[fixed_index], az[fixed_index] = alt_true, az_fixed
         ra[fixed_index] = wrap_hours_24(last - ha_fixed)
 
-    global_min = config.events.min_altitude_deg
-    own_min = np.array([global_min if t.min_altitude_deg is None else t.min_altitude_deg for t in targets],
-                       dtype=float)
     sun = observe_sun(instants, observer)
     moon = observe_moon(instants, observer)
     sun_geometric = float(sun.alt_geometric_deg)
@@ -174,7 +175,7 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
         az_deg=az,
         airmass=np.asarray(airmass(alt), dtype=float).reshape(n),
         rising=rising,
-        min_alt_deg=np.maximum(own_min, horizon_altitude_deg(site, az)),
+        min_alt_deg=np.asarray(altitude_limit(config, targets).observed_deg(az), dtype=float).reshape(n),
         sun_separation_deg=np.asarray(sun_separation_deg(ra, dec, instants), dtype=float).reshape(n),
         unix_seconds=float(unix_seconds),
         jd_utc=float(instants.utc_whole) + float(instants.utc_frac),
@@ -200,6 +201,23 @@ def observer_for(config: Config) -> Observer:
     return Observer(latitude_deg=site.latitude_deg, longitude_deg=site.longitude_deg,
                     elevation_m=site.elevation_m, pressure_hpa=site.pressure_hpa,
                     temperature_c=site.temperature_c, refraction=config.events.refraction)
+
+
+def altitude_limit(config: Config, targets: Sequence[Target]) -> AltitudeLimit:
+    """Each target's lowest usable altitude: the one definition ``now``, the board and the agenda use.
+
+    ``max(horizon profile at the azimuth, the target's min_altitude or the [events] one)``; without a
+    profile only the min_altitude counts. Limits are observed altitudes; the refraction settings
+    say how :class:`~siderod.astro.events.AltitudeLimit` turns them into geometric ones.
+    """
+    global_min = config.events.min_altitude_deg
+    floor = np.array([global_min if t.min_altitude_deg is None else t.min_altitude_deg for t in targets],
+                     dtype=float)
+    profile = np.array(config.site.horizon, dtype=float).reshape(-1, 2)
+    observer = observer_for(config)
+    return AltitudeLimit(min_alt_deg=floor, profile_az_deg=profile[:, 0], profile_alt_deg=profile[:, 1],
+                         refraction=bool(config.events.refraction and observer.effective_pressure_hpa > 0),
+                         pressure_hpa=observer.effective_pressure_hpa, temperature_c=observer.temperature_c)
 
 
 def horizon_altitude_deg(site: Site, az_deg):

@@ -16,6 +16,7 @@ import pytest
 
 from siderod.astro import events as ev
 from siderod.astro.places import Observer, stars_from_radec
+from siderod.astro.refraction import refraction_deg, refraction_slope
 from siderod.astro.sidereal import FastSidereal
 
 REFERENCE = json.loads((pathlib.Path(__file__).parents[1] / "reference" / "event_reference.json").read_text())
@@ -23,9 +24,18 @@ SITES = REFERENCE["header"]["sites"]
 
 #: Star events: the issue's requirement (within 1 s of a bisection on erfa.atco13).
 STAR_EVENT_TOLERANCE_SECONDS = 1.0
-#: What the engine reaches on these cases (measured: culminations <= 0.075 s, crossings <= 0.03 s);
-#: a regression guard well inside the requirement.
+#: What the engine reaches on culminations (measured <= 0.075 s): a regression guard well inside
+#: the requirement.
 STAR_EVENT_EXPECTED_SECONDS = 0.1
+#: Altitude crossings with diurnal aberration included (measured <= 0.016 s, the largest at grazing
+#: and near-polar stars, where a 0.05" model difference takes longest to cross): a regression guard.
+CROSSING_EXPECTED_SECONDS = 0.025
+#: 99th percentile of the altitude crossings of the 40 random stars per case (measured 0.007 s; it
+#: was 0.014 s, with a steady 0.005 s bias, before diurnal aberration was applied to crossings).
+#: The reference is itself bisected to 1 ms.
+CROSSING_P99_SECONDS = 0.01
+#: Stars per case drawn at random by the reference builder; the rest are near-polar or grazing.
+RANDOM_STARS_PER_CASE = 40
 #: Sun and Moon: the issue's requirement against astropy (our Sun/Moon are low-precision series).
 SUN_MOON_TOLERANCE_SECONDS = 30.0
 CASES = sorted(REFERENCE["cases"])
@@ -44,9 +54,10 @@ def _engine(case):
     return track, last, lat, start, end
 
 
-def _match(ref_idx, ref_t, ref_rising, idx, t, rising):
+def _match(ref_idx, ref_t, ref_rising, idx, t, rising, count=True):
     """Pair each reference event with ours (same star, same direction, nearest); return |dt| array."""
-    assert len(t) == len(ref_t), f"event count differs: ours {len(t)}, reference {len(ref_t)}"
+    if count:
+        assert len(t) == len(ref_t), f"event count differs: ours {len(t)}, reference {len(ref_t)}"
     diffs = []
     for j, time, r in zip(ref_idx, ref_t, ref_rising, strict=True):
         mine = t[(idx == j) & (rising == r)]
@@ -79,7 +90,23 @@ def test_altitude_crossings_match_erfa_atco13_bisection(name, threshold):
     idx, t, rising = ev.find_altitude_events(track, last, lat, threshold, start, end)
     d = _match(np.array(col), np.array(t_ref), np.array(r_ref), idx, t, rising)
     assert d.max() < STAR_EVENT_TOLERANCE_SECONDS
-    assert d.max() < STAR_EVENT_EXPECTED_SECONDS
+    assert d.max() < CROSSING_EXPECTED_SECONDS
+
+
+@pytest.mark.slow
+def test_altitude_crossings_p99_with_diurnal_aberration():
+    # Reference: as above (erfa.atco13 altitude bisected to 1 ms), every case, both thresholds,
+    # the random stars only (grazing ones turn any tiny place difference into time).
+    diffs = []
+    for name in CASES:
+        case = REFERENCE["cases"][name]
+        track, last, lat, start, end = _engine(case)
+        for threshold in (0.0, 30.0):
+            col, t_ref, r_ref = (np.array(v) for v in case[f"crossings_{threshold:g}"])
+            random = col < RANDOM_STARS_PER_CASE
+            idx, t, rising = ev.find_altitude_events(track, last, lat, threshold, start, end)
+            diffs.append(_match(col[random], t_ref[random], r_ref[random], idx, t, rising, count=False))
+    assert np.percentile(np.concatenate(diffs), 99) < CROSSING_P99_SECONDS
 
 
 @pytest.mark.parametrize("name", CASES)
@@ -94,7 +121,7 @@ def test_flat_profile_path_agrees_with_closed_form(name):
     idx, t, rising = ev.find_limit_events(track, last, lat, limit, start, end)
     col, t_ref, r_ref = case["crossings_0"]
     d = _match(np.array(col), np.array(t_ref), np.array(r_ref), idx, t, rising)
-    assert d.max() < STAR_EVENT_EXPECTED_SECONDS
+    assert d.max() < CROSSING_EXPECTED_SECONDS
 
 
 @pytest.mark.parametrize("name", CASES)
@@ -220,3 +247,37 @@ def test_altitude_limit_interpolates_through_north_and_applies_refraction_once()
     geo = float(limit.geometric_deg(np.array([0.0]), np.array([0]))[0])
     assert 20.0 - geo == pytest.approx(2.6 / 60, abs=0.3 / 60)
     assert float(limit.to_observed_deg(geo)) == pytest.approx(20.0, abs=1e-6)
+
+
+def test_refraction_derivative_bounds_used_by_the_profile_finder_hold():
+    # The profile finder certifies its monotone pieces with bounds on Bennett's dR/dh and d2R/dh2
+    # (siderod.astro.events constants); measured here on a fine grid at standard weather, where
+    # the formula is smooth (between the kinks at 0 deg and the zenith clamp).
+    h = np.linspace(0.0, 89.1, 178201)
+    slope = refraction_slope(h)
+    curvature = np.gradient(slope, h)
+    assert np.abs(slope).max() <= ev._REFRACTION_SLOPE_MAX
+    assert np.abs(curvature[1:-1]).max() <= ev._REFRACTION_CURVATURE_MAX_PER_DEG
+    # The closed-form slope is the derivative of refraction_deg (central differences, 1e-6 deg).
+    numeric = (refraction_deg(h[1:-1] + 1e-6) - refraction_deg(h[1:-1] - 1e-6)) / 2e-6
+    assert np.abs(numeric - slope[1:-1]).max() < 1e-6
+    below = np.linspace(-4.99, -0.01, 99)
+    assert np.allclose((refraction_deg(below + 1e-6) - refraction_deg(below - 1e-6)) / 2e-6,
+                       refraction_slope(below), atol=1e-6)
+
+
+def test_profile_curve_pieces_are_monotone_in_declination():
+    # The invariant the finder's completeness rests on: along each piece sin(declination) of the
+    # curve's points never turns back (checked on 50 points per piece), at several latitudes,
+    # for a profile with a 0.5-deg spike, close points and a wall through north.
+    az = (0.0, 2.0, 2.25, 2.5, 40.0, 40.3, 40.6, 90.0, 200.0, 355.0)
+    alt = (30.0, 3.0, 60.0, 3.0, 10.0, -2.0, 10.0, 18.0, 5.0, 30.0)
+    for lat in (-89.0, -33.9, 0.0, 56.2, 78.0):
+        for refraction in (False, True):
+            curve = ev._profile_curve(az, alt, lat, refraction, 1010.0, 10.0)
+            for first, last in zip(curve.piece_first, curve.piece_last, strict=True):
+                seg = curve.node_seg[first]
+                u = np.linspace(curve.node_u[first], curve.node_u[last], 50)
+                z = curve.point(np.full(50, seg), u).z
+                step = np.diff(z) * (1.0 if z[-1] >= z[0] else -1.0)
+                assert step.min() >= -1e-15
