@@ -86,3 +86,26 @@ def test_syntax_error_gives_the_parser_line():
     assert error.line == 2
     assert "valid TOML" in error.expected
     assert error.got == '"name ="'
+
+
+class _CountingText(str):
+    """A str that adds up how many characters its ``count`` method is asked to scan."""
+
+    scanned = 0
+
+    def count(self, sub, start=0, end=None):
+        stop = len(self) if end is None else end
+        type(self).scanned += max(0, stop - start)
+        return super().count(sub, start, end)
+
+
+def test_key_lines_scans_the_text_a_bounded_number_of_times():
+    # issue 13 item 4: line numbers were found by counting newlines from the start of the file for
+    # every key, so a target file took quadratic time (20k targets: 28 s). Linear work means the
+    # newline counting may look at each character a small, fixed number of times, whatever the size.
+    entries = "".join(f'[[target]]\nname = "T{i}"\nra = "{i % 24}h"\ndec = 10\n\n' for i in range(2000))
+    text = _CountingText(entries)
+    _CountingText.scanned = 0
+    lines = key_lines(text)
+    assert lines["target[2000].dec"] == 5 * 1999 + 4  # cross-check: every entry is 5 lines
+    assert _CountingText.scanned <= 2 * len(text)
