@@ -163,7 +163,7 @@ def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]
 
     lines = ["doctor:"]
     versions = [f"siderod {__version__}", f"python {platform.python_version()}"]
-    for dist in ("numpy", "rich", "apscheduler", "desktop-notifier"):
+    for dist in ("numpy", "rich", "apscheduler", "desktop-notifier", "jplephem", "skyfield-data"):
         try:
             versions.append(f"{dist} {metadata.version(dist)}")
         except metadata.PackageNotFoundError:
@@ -179,6 +179,7 @@ def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]
 
     lines.append(f"    credit: {CATALOGUE_CREDIT}")
     lines.append(f"  IERS finals2000A.all (astropy-iers-data): {finals or 'not installed'}")
+    lines.append(f"  planetary ephemeris: {_ephemeris_report()}")
     if config is not None:
         lines.append(f"  DUT1 in use: {config.time.dut1_seconds:+.4f} s ({config.time.dut1_source})")
     paths = resolve_paths(env)
@@ -213,6 +214,23 @@ def _service_state(socket_path: Any) -> str:
         return f"unknown ({exc})"
     started = result.get("started_utc", "?") if isinstance(result, dict) else "?"
     return f"running (started {started})"
+
+
+def _ephemeris_report() -> str:
+    """Which JPL kernel places planets, the Moon and minor bodies, its span, and where it is."""
+    from siderod.astro.timescales import datetime_from_unix
+    from siderod.files.ephemeris import KERNEL_NAME, kernel_path, load_ephemeris
+
+    try:
+        eph = load_ephemeris()
+    except (OSError, ImportError, ValueError) as exc:
+        return f"{KERNEL_NAME} not available ({exc}); planets, the Moon and comets cannot be placed"
+
+    def date(jd: float) -> str:
+        return datetime_from_unix((jd - 2440587.5) * 86400.0).strftime("%Y-%m-%d")
+
+    return (f"JPL {KERNEL_NAME.removesuffix('.bsp').upper()} covering {date(eph.start_jd_tdb)} .. "
+            f"{date(eph.end_jd_tdb)} (from skyfield-data): {kernel_path()}")
 
 
 def _catalogue_edition() -> str:

@@ -99,6 +99,7 @@ def sky_to_json(sky: Any, config: Any, *, leap_until: str) -> dict[str, Any]:
             "rising": bool(sky.rising[i]),
             "min_altitude_deg": float(sky.min_alt_deg[i]),
             "sun_separation_deg": float(sky.sun_separation_deg[i]),
+            **_moving_fields(sky, config, i),
         })
     return {
         "utc": format_iso_utc(sky.unix_seconds),
@@ -125,6 +126,30 @@ def sky_to_json(sky: Any, config: Any, *, leap_until: str) -> dict[str, Any]:
 
 # ---------------------------------------------------------------------------------------------
 # helpers
+
+
+def _moving_fields(sky: Any, config: Any, i: int) -> dict[str, Any]:
+    """Magnitude, distance and the elements' epoch and age (null where they do not apply)."""
+    def number(values):
+        if values is None or math.isnan(float(values[i])):
+            return None
+        return float(values[i])
+
+    epoch_jd = number(getattr(sky, "elements_epoch_jd_tt", None))
+    age = None if epoch_jd is None else abs(sky.jd_utc - epoch_jd)
+    return {
+        "magnitude": number(getattr(sky, "magnitude", None)),
+        "distance_au": number(getattr(sky, "distance_au", None)),
+        "elements_epoch": None if epoch_jd is None else _date_of_jd(epoch_jd),
+        "elements_age_days": age,
+        "elements_old": None if age is None else bool(age > config.max_element_age_days),
+    }
+
+
+def _date_of_jd(jd: float) -> str:
+    from datetime import UTC, datetime, timedelta
+
+    return (datetime(2000, 1, 1, 12, tzinfo=UTC) + timedelta(days=jd - 2451545.0)).strftime("%Y-%m-%d")
 
 
 def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
@@ -158,7 +183,12 @@ def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
     table.add_column("Target", overflow="fold", min_width=14)
     for heading in ("HA", "Dec", "Alt", "Az", "Airmass"):
         table.add_column(heading, justify="right", no_wrap=True)
-    table.add_column("", overflow="fold")
+    # Comets and asteroids add their estimated magnitude and their elements' epoch.
+    with_elements = any(t["elements_epoch"] is not None for t in data["targets"])
+    if with_elements:
+        table.add_column("Mag", justify="right", no_wrap=True)
+        table.add_column("Elements", overflow="fold", min_width=10)
+    table.add_column("", overflow="fold", min_width=8)
     sun_up = sky.sun_alt_deg > 0.0
     for i, name in enumerate(sky.names):
         alt = float(sky.alt_deg[i])
@@ -168,6 +198,14 @@ def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
             note = "fixed"
         else:
             note = "rising" if sky.rising[i] else "setting"
+        extra = []
+        if with_elements:
+            moving = data["targets"][i]
+            extra.append("" if moving["magnitude"] is None else f"{moving['magnitude']:.1f}")
+            epoch = moving["elements_epoch"] or ""
+            if moving["elements_old"]:
+                epoch += f" [yellow]{moving['elements_age_days']:.0f} d old[/]"
+            extra.append(epoch)
         if sun_up and float(sky.sun_separation_deg[i]) < SUN_CAUTION_DEG:
             note += " [bold red]NEAR SUN[/]"
         table.add_row(
@@ -177,8 +215,12 @@ def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
             f"{alt:+.1f}°",
             f"{float(sky.az_deg[i]):.1f}°",
             "—" if math.isnan(airmass) else f"{airmass:.2f}",
+            *extra,
             note,
             style=None if usable else "dim",
         )
     console.print(table)
     console.print("[dim]dim rows: below the lowest usable altitude (horizon profile or min_altitude)[/]")
+    if any(t["elements_old"] for t in data["targets"]):
+        console.print(f"[yellow]orbital elements older than {config.max_element_age_days:g} days: two-body "
+                      "motion drifts from the real orbit as the planets pull; fetch fresh elements[/]")

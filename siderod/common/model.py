@@ -361,6 +361,7 @@ class Event:
     mark_hours: float | None = None
     usable: bool | None = None
     moon_illuminated_fraction: float | None = None
+    sun_separation_deg: float | None = None  # the target's distance from the Sun's centre at the event
 
 
 @dataclass(frozen=True, slots=True)

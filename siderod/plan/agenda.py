@@ -31,7 +31,7 @@ from siderod.astro import events as ev
 from siderod.astro.ephemeris import geocentric_site_rho
 from siderod.astro.places import Observer, hadec_to_altaz
 from siderod.astro.sidereal import FastSidereal
-from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun
+from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun, sun_apparent_radec
 from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
 from siderod.plan.moving import ephemeris_for, is_moving, moving_places
@@ -225,7 +225,7 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
         if up_at_start is None:
             alt, az, _ = ev.target_altaz(track, last, lat, np.full(len(group), start_unix))
             up_at_start = (alt >= limit.geometric_deg(az)).tolist()
-        maker = _EventMaker(track, last, lat, limit, names, records)
+        maker = _EventMaker(track, last, lat, limit, names, records, _SunPath(piece_start, piece_end))
         _hour_angle_kinds(config, maker, track, last, lat, piece_start, piece_end, wanted)
         # Rise and set: always computed (classification and dark intervals need them).
         flat = np.flatnonzero(~limit.depends_on_azimuth())
@@ -288,17 +288,22 @@ def _hour_angle_kinds(config, maker, track, last, lat, start, end, wanted):
 class _EventMaker:
     """Turns the engine's arrays into Event records (one place, so every kind is filled alike)."""
 
-    def __init__(self, track, last, lat, limit: ev.AltitudeLimit, names, records):
+    def __init__(self, track, last, lat, limit: ev.AltitudeLimit, names, records, sun=None):
         self.track, self.last, self.lat, self.limit = track, last, lat, limit
         self.names, self.records = names, records
+        self.sun = sun
 
     def _state(self, idx, times):
         alt_geo, az, ha = ev.target_altaz(self.track, self.last, self.lat, times, idx)
-        _, dec = self.track.radec_at(times, idx)
+        ra, dec = self.track.radec_at(times, idx)
         ha = ev.observed_hour_angle_hours(ha, dec, self.lat)
         alt = self.limit.to_observed_deg(alt_geo)
         floor = self.limit.observed_deg(az, idx)
+        self.sun_sep = self.sun.separation_deg(times, ra, dec) if self.sun is not None else None
         return alt, az, ha, floor
+
+    def _sep(self, k):
+        return None if self.sun_sep is None else float(self.sun_sep[k])
 
     def marks(self, idx, times, kind, mark_hours, only_usable):
         if idx.size == 0:
@@ -307,26 +312,54 @@ class _EventMaker:
         usable = alt >= floor  # usable at or above the limit, as in `now` and on the board
         wrapped_mark = mark_hours - 24.0 * math.floor((mark_hours + 12.0) / 24.0)
         is_culmination = kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION)
-        for j, t, a, z, h, u in zip(idx.tolist(), times.tolist(), alt.tolist(), az.tolist(), ha.tolist(),
-                                    usable.tolist(), strict=True):
+        for k, (j, t, a, z, h, u) in enumerate(zip(idx.tolist(), times.tolist(), alt.tolist(), az.tolist(),
+                                                   ha.tolist(), usable.tolist(), strict=True)):
             if only_usable and not u:
                 continue
             self.records.append(Event(
                 time_utc=_utc(t), kind=kind, target=self.names[j], altitude_deg=a, azimuth_deg=z,
-                hour_angle_hours=h, mark_hours=None if is_culmination else wrapped_mark, usable=u))
+                hour_angle_hours=h, mark_hours=None if is_culmination else wrapped_mark, usable=u,
+                sun_separation_deg=self._sep(k)))
 
     def crossings(self, idx, times, rising, up_kind, down_kind, wanted, *, threshold):
         if idx.size == 0 or not wanted & {up_kind, down_kind}:
             return
         alt, az, ha, floor = self._state(idx, times)
-        for j, t, r, a, z, h, f in zip(idx.tolist(), times.tolist(), rising.tolist(), alt.tolist(),
-                                       az.tolist(), ha.tolist(), floor.tolist(), strict=True):
+        for k, (j, t, r, a, z, h, f) in enumerate(zip(idx.tolist(), times.tolist(), rising.tolist(),
+                                                      alt.tolist(), az.tolist(), ha.tolist(), floor.tolist(),
+                                                      strict=True)):
             kind = up_kind if r else down_kind
             if kind not in wanted:
                 continue
             self.records.append(Event(
                 time_utc=_utc(t), kind=kind, target=self.names[j], altitude_deg=a, azimuth_deg=z,
-                hour_angle_hours=h, threshold_deg=f if threshold is None else float(threshold)))
+                hour_angle_hours=h, threshold_deg=f if threshold is None else float(threshold),
+                sun_separation_deg=self._sep(k)))
+
+
+class _SunPath:
+    """The Sun's apparent direction across a piece of window, sampled hourly and interpolated (the
+    Sun moves 1 deg a day, so linear interpolation is good to a few arcseconds), for the distance
+    of each target event from the Sun."""
+
+    def __init__(self, start_unix, end_unix):
+        self.grid = np.arange(start_unix - 3600.0, end_unix + 7200.0, 3600.0)
+        ra, dec, _ = sun_apparent_radec(instants_from_unix(self.grid))
+        self.xyz = _unit(ra, dec)
+
+    def separation_deg(self, unix_seconds, ra_hours, dec_deg):
+        t = np.asarray(unix_seconds, dtype=float)
+        sun = [np.interp(t, self.grid, c) for c in self.xyz]
+        target = _unit(ra_hours, dec_deg)
+        dot = sum(a * b for a, b in zip(sun, target, strict=True))
+        norm = np.sqrt(sum(a * a for a in sun))
+        return np.degrees(np.arccos(np.clip(dot / norm, -1.0, 1.0)))
+
+
+def _unit(ra_hours, dec_deg):
+    a = np.asarray(ra_hours, dtype=float) * (np.pi / 12.0)
+    d = np.radians(np.asarray(dec_deg, dtype=float))
+    return np.cos(a) * np.cos(d), np.sin(a) * np.cos(d), np.sin(d)
 
 
 def _fixed_usable(config: Config, target: Target) -> bool:

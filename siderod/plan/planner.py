@@ -34,7 +34,13 @@ __all__ = [
     "SKY_KINDS",
     "SKY_TARGET_NAME",
     "held_kinds",
+    "SUN_CAUTION_DEG",
+    "too_near_the_sun",
 ]
+
+#: Alert bodies carry the Sun caution when the target is closer than this to the Sun, degrees
+#: (the same limit as the `now` table and the board).
+SUN_CAUTION_DEG = 20.0
 
 # Kinds that warn of possible harm to equipment are critical unless [alerts] says otherwise
 # (common practice: a missed flip can drive the mount into its pier).
@@ -112,6 +118,8 @@ def plan_alerts(
     targets = {t.name: t for t in config.targets}
     candidates: dict[str, tuple[Event, float, datetime]] = {}
     for event in agenda.events:
+        if too_near_the_sun(event, rules):
+            continue  # never lead an observer towards the Sun; the service logs these
         leads = _lead_minutes_for(event, targets, rules.lead_minutes)
         mute_name = event.target if event.target is not None else SKY_TARGET_NAME
         for lead in leads or ():
@@ -176,7 +184,7 @@ def plan_repeats(
         if event.kind is EventKind.TRACKING_LIMIT and event.target is not None:
             dues = [event.time_utc - timedelta(minutes=lead) for lead in leads] or [event.time_utc]
             limits.setdefault(event.target, []).append(min(dues))
-        if not leads or _urgency(rules, event.kind) is not Urgency.CRITICAL:
+        if not leads or _urgency(rules, event.kind) is not Urgency.CRITICAL or too_near_the_sun(event, rules):
             continue
         key = event_id(alert_key(event, 0.0))
         if key in acknowledged:
@@ -253,6 +261,12 @@ def _held_by_sun(
     return {key for key, alt in zip(keys, altitudes, strict=True) if float(alt) > hold_above_deg}
 
 
+def too_near_the_sun(event: Event, rules: AlertRules) -> bool:
+    """True for a target event closer to the Sun than ``[alerts] sun_separation_min``: no alert."""
+    sep = event.sun_separation_deg
+    return event.target is not None and sep is not None and sep < rules.sun_separation_min_deg
+
+
 def alert_key(event: Event, lead_minutes: float) -> str:
     """The stable identity of one alert: ``target|kind|event time to the second|lead``.
 
@@ -310,6 +324,10 @@ def format_alert(event: Event, lead_minutes: float, site: Site) -> tuple[str, st
         lines.append("Advisory only: the mount's own limits must be set.")
     if event.kind is EventKind.SUNRISE:
         lines.append("Cover or park unfiltered optics before the Sun is up.")
+    if event.target is not None and event.sun_separation_deg is not None \
+            and event.sun_separation_deg < SUN_CAUTION_DEG:
+        lines.append(f"Caution: {event.sun_separation_deg:.0f}° from the Sun. Never point unfiltered "
+                     "optics at or near the Sun.")
     return title, "\n".join(lines)
 
 

@@ -48,6 +48,7 @@ from siderod.plan.planner import (
     plan_alerts,
     plan_repeats,
     repeat_lookback_minutes,
+    too_near_the_sun,
 )
 from siderod.service.anomaly import ClockAnomaly, ClockWatch
 from siderod.service.delivery import (
@@ -490,6 +491,11 @@ class Service:
             planned = self._mount.adjust(planned, config)  # the target in use
             # Only critical alerts insist: a repeat made less urgent by the target in use goes.
             planned = tuple(a for a in planned if a.repeat_number == 0 or a.urgency is Urgency.CRITICAL)
+            near_sun = sorted({e.target for e in getattr(agenda, "events", ())
+                               if too_near_the_sun(e, config.alerts)})
+            if near_sun:
+                log.info("no alerts for %s: closer than %g° to the Sun ([alerts] sun_separation_min)",
+                         ", ".join(near_sun), config.alerts.sun_separation_min_deg)
             if self._catch_up_floor_utc is not None:
                 planned = tuple(a for a in planned if a.due_utc >= self._catch_up_floor_utc)
             now_utc = self._clock.now_utc()  # the agenda may have taken a while

@@ -437,6 +437,7 @@ def _warning_lines(inputs: BoardInputs, width: int) -> list[Text]:
             out.append(_line(width, ("CAUTION ", "siderod.danger"),
                              (f"{names} within {SUN_CAUTION_SEPARATION_DEG:g}° of the Sun: "
                               "never point unfiltered optics at or near the Sun", "siderod.warn")))
+    out.extend(_elements_lines(inputs, width))
     snapshot = inputs.snapshot
     health = snapshot.clock_health if snapshot is not None else inputs.clock_health
     tolerance_seconds = inputs.config.time.clock_tolerance_seconds
@@ -461,6 +462,31 @@ def _warning_lines(inputs: BoardInputs, width: int) -> list[Text]:
             out.append(_warn(width, f"reload failed, last good configuration kept: {snapshot.config_error}"))
     for notice in inputs.notices:
         out.append(_warn(width, notice))
+    return out
+
+
+def _elements_lines(inputs: BoardInputs, width: int) -> list[Text]:
+    """Comets and asteroids: estimated magnitude and the elements' epoch; old elements warned."""
+    sky = inputs.sky
+    epochs = getattr(sky, "elements_epoch_jd_tt", None) if sky is not None else None
+    if epochs is None:
+        return []
+    out = []
+    jd_now = inputs.now_utc.timestamp() / 86400.0 + 2440587.5
+    for i, name in enumerate(sky.names):
+        epoch = float(epochs[i])
+        if not math.isfinite(epoch):
+            continue
+        mag = float(sky.magnitude[i]) if sky.magnitude is not None else math.nan
+        date = (datetime(2000, 1, 1, 12, tzinfo=UTC) + timedelta(days=epoch - 2451545.0)).strftime("%Y-%m-%d")
+        parts = [(f"{name} ", "siderod.value")]
+        if math.isfinite(mag):
+            parts.append((f"mag {mag:.1f} ", "siderod.value"))
+        parts.append((f"elements {date}", "siderod.dim"))
+        age = abs(jd_now - epoch)
+        if age > inputs.config.max_element_age_days:
+            parts.append((f" {age:.0f} d old: fetch fresh elements", "siderod.warn"))
+        out.append(_line(width, *parts))
     return out
 
 
