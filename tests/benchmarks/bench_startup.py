@@ -17,9 +17,10 @@ import subprocess
 import sys
 import time
 
+NOW_CASE = "siderod now --json (demo: 16 targets, 5 placed from the catalogue)"
 CASES = {
     "python -c pass (interpreter floor)": [sys.executable, "-c", "pass"],
-    "siderod now --json (demo, 16 targets, 5 named from the catalogue)": [sys.executable, "-m", "siderod", "now", "--json"],
+    NOW_CASE: [sys.executable, "-m", "siderod", "now", "--json"],
     "siderod status (no service: the quick path)": [sys.executable, "-m", "siderod", "status"],
     "astropy Time.sidereal_time('apparent') (reference)": [
         sys.executable,
@@ -46,7 +47,7 @@ def main() -> None:
         medians[name] = statistics.median(samples)
         print(f"{name:55s} median {medians[name] * 1000:7.0f} ms  (min {min(samples) * 1000:.0f}, "
               f"max {max(samples) * 1000:.0f})")
-    ours = medians["siderod now --json (demo, 16 targets, 5 named from the catalogue)"]
+    ours = medians[NOW_CASE]
     reference = medians["astropy Time.sidereal_time('apparent') (reference)"]
     print(f"\ncold `siderod now`: {ours:.2f} s (aim <= 0.5 s); astropy one-off LST: {reference:.2f} s; "
           f"ratio {reference / ours:.1f}x")
