@@ -13,7 +13,6 @@ Names are matched case- and space-insensitively: ``M31``, ``m 31``, ``Messier 31
 
 from __future__ import annotations
 
-import difflib
 import importlib.util
 import re
 import sqlite3
@@ -162,12 +161,18 @@ def catalogue_info() -> CatalogueInfo:
     if not path.is_file():
         raise CatalogueMissing(f"the pyongc package has no catalogue file ({path} is missing); reinstall "
                                "it with `pip install --force-reinstall pyongc`")
-    from importlib import metadata
+    # The version from the wheel's dist-info folder name beside the package: importlib.metadata
+    # would scan every installed distribution, which costs more than the whole look-up.
+    found_dist = sorted(folder.parent.glob("[Pp]y[Oo]ngc-*.dist-info"))
+    if found_dist:
+        version = found_dist[-1].name[len("pyongc-"):-len(".dist-info")]
+    else:
+        from importlib import metadata
 
-    try:
-        version = metadata.version("PyOngc")
-    except metadata.PackageNotFoundError:
-        version = "?"
+        try:
+            version = metadata.version("PyOngc")
+        except metadata.PackageNotFoundError:
+            version = "?"
     data_date = ""
     try:
         found = re.search(r"DBDATE\s*=\s*(\d{8})", (folder / "__init__.py").read_text(encoding="utf-8"))
@@ -376,6 +381,8 @@ class Catalogue:
             for object_name in self._object_names_containing(name)[:_SUGGESTIONS]:
                 suggestions.append(_describe(self._entry(object_name)))
         if len(suggestions) < _SUGGESTIONS:
+            import difflib
+
             common = self._common_names()
             close = difflib.get_close_matches(key, [c[0] for c in common], n=_SUGGESTIONS, cutoff=0.6)
             for normalised in close:
