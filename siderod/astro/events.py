@@ -877,10 +877,12 @@ class _ProfileCurve:
         return piece, order[pos]
 
     def solve(self, piece, z_target):
-        """Where each piece reaches ``z_target``: observed altitude (deg) and true hour angle (rad).
+        """Where each piece reaches ``z_target``: observed altitude (deg), true hour angle (rad), segment.
 
-        Linear interpolation in the node table: the nodes are at most 1 deg apart along the
-        curve, so the point is off by a few arcseconds at most, which the polishing in time removes.
+        Linear interpolation in the node table (nodes at most 1 deg apart along the curve), then
+        one Newton step on the exact ``z(u)`` of the segment (z is monotone between the two nodes),
+        and the point's hour angle from the exact model. Interpolating the hour angle itself is not
+        enough near the celestial pole, where it turns by many degrees between two nodes.
         """
         orient = np.where(self.piece_rising[piece], -1.0, 1.0)
         key = 4.0 * piece + orient * z_target
@@ -890,12 +892,17 @@ class _ProfileCurve:
         pos = np.clip(pos, lo_pos + 1, hi_pos)
         n0, n1 = self.table_node[pos - 1], self.table_node[pos]
         z0, z1 = self.node_z[n0], self.node_z[n1]
+        u0, u1 = self.node_u[n0], self.node_u[n1]
         with np.errstate(divide="ignore", invalid="ignore"):
             w = np.clip(np.where(z1 != z0, (z_target - z0) / (z1 - z0), 0.5), 0.0, 1.0)
-        alt = self.node_alt[n0] + w * (self.node_alt[n1] - self.node_alt[n0])
-        x = self.node_x[n0] + w * (self.node_x[n1] - self.node_x[n0])
-        y = self.node_y[n0] + w * (self.node_y[n1] - self.node_y[n0])
-        return alt, np.arctan2(y, x), self.node_seg[n0]
+        u = u0 + w * (u1 - u0)
+        seg = self.node_seg[n0]
+        pt = self.point(seg, u)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = np.where(pt.dz_du != 0.0, (z_target - pt.z) / pt.dz_du, 0.0)
+        u = np.clip(u + step, np.minimum(u0, u1), np.maximum(u0, u1))
+        pt = self.point(seg, u)
+        return pt.alt_obs_deg, np.arctan2(pt.y_h, pt.x_h), seg
 
     def line_deg(self, seg, az_deg):
         """Segment ``seg``'s geometric altitude at ``az_deg`` (its line extended) and its slope dG/dA."""
