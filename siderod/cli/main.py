@@ -35,6 +35,7 @@ EXIT_FAILURE = 4  # anything else went wrong at run time
 _VERB_MODULES = (
     "siderod.cli.now",
     "siderod.cli.agenda",
+    "siderod.cli.sidereal",
     "siderod.cli.watch",
     "siderod.cli.run",
     "siderod.cli.control",
