@@ -189,6 +189,8 @@ def format_status(result: dict[str, Any]) -> str:
     warning = _clock_warning(s)
     if warning:
         lines.append(f"  WARNING: {warning}")
+    if s.ledger_error:
+        lines.append(f"ledger:  WARNING: {s.ledger_error}")
 
     if s.awaiting_ack:
         lines.append("REPEATING until acknowledged (`siderod ack`, or A on the board):")

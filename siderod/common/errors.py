@@ -91,6 +91,10 @@ class ConfigErrors(SiderodError):
         super().__init__(head + ":\n" + "\n".join(f"  {e}" for e in self.errors))
 
 
+class LedgerUnusable(SiderodError):
+    """The alert ledger cannot be opened for writing; the message names the file and the fix."""
+
+
 class ServiceNotRunning(SiderodError):
     """No siderod service answers on the control socket."""
 

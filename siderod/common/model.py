@@ -473,6 +473,7 @@ class ServiceSnapshot:
     missed_count: int = 0
     planned_count: int = 0
     clock_tolerance_seconds: float = 1.0  # from [time] clock_tolerance
+    ledger_error: str = ""  # why the alert ledger cannot be written now ("" when it can)
     mount: MountView = field(default_factory=MountView)
     # Event ids (target|kind|time) of critical alerts given and repeating until acknowledged.
     awaiting_ack: tuple[str, ...] = ()

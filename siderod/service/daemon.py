@@ -25,6 +25,7 @@ import contextlib
 import logging
 import os
 import signal
+import sqlite3
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import replace
 from datetime import UTC, datetime, timedelta
@@ -61,7 +62,7 @@ from siderod.service.delivery import (
     build_channels,
     channel_accepts,
 )
-from siderod.service.ledger import Ledger, LedgerRow
+from siderod.service.ledger import Ledger, LedgerRow, open_ledger
 from siderod.service.scheduling import Scheduler, SchedulerFactory
 
 __all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS"]
@@ -80,6 +81,8 @@ SNAPSHOT_ALERTS = 20
 # A reload or control request that sends a service message waits at most this long (real seconds)
 # for the channels to take it; each channel's own send is bounded anyway, this only caps the reply.
 SERVICE_MESSAGE_WAIT_SECONDS = 5.0
+# How often writes that failed (a full or failing disk) are tried again, in monotonic seconds.
+LEDGER_RETRY_SECONDS = 10.0
 # Closed ledger rows older than this are forgotten at start-up.
 LEDGER_KEEP_DAYS = 14
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
@@ -182,6 +185,10 @@ class Service:
         self._sun_altitude: Callable[[datetime], float] | None = None
         self._service_message_count = 0
         self._catch_up_floor_utc: datetime | None = None
+        # Ledger writes that failed, in order, to replay when the disk recovers; and why.
+        self.ledger_error = ""
+        self._unwritten: list[tuple[str, Callable[[], object]]] = []
+        self._claimed_unwritten: set[str] = set()
         self._mount: Any = None  # siderod.service.mount.MountDesk, built in run()
 
     # -- public API ----------------------------------------------------------------------------
@@ -206,13 +213,14 @@ class Service:
                 await stack.enter_async_context(
                     ControlServer(self._paths.socket_path, self.handle_request, self._paths.lock_path)
                 )
-            self._ledger = Ledger(self._ledger_path)
+            self._ledger, ledger_notice = open_ledger(self._ledger_path, self._clock.now_utc())
             stack.callback(self._ledger.close)
             # Catching up on alerts that fell due while the service was down only makes sense if
             # it ran before; a first start begins with what is due from now on.
             # The floor is stored in the ledger, so the promise outlives a restart.
             self._catch_up_floor_utc = self._ledger.catch_up_floor(self.started_utc)
-            self._ledger.prune(self._clock.now_utc() - timedelta(days=LEDGER_KEEP_DAYS))
+            keep_from_utc = self._clock.now_utc() - timedelta(days=LEDGER_KEEP_DAYS)
+            self._write("prune", lambda: self._ledger.prune(keep_from_utc))
             self._mutes = self._ledger.mutes(self._clock.now_utc())
             from siderod.service.mount import MountDesk
 
@@ -231,6 +239,8 @@ class Service:
             self._worker_failed = loop.create_future()
             stack.push_async_callback(self._stop_workers)
             self._start_workers()
+            if ledger_notice:
+                self._put_service_message("siderod: alert ledger replaced", ledger_notice, Urgency.NORMAL)
             await self.replan("start")
             self._notify("READY=1\n" + self._status_line())
             self._ready.set()
@@ -255,6 +265,7 @@ class Service:
                     tasks.create_task(watch.run(), name="clock-watch")
                     tasks.create_task(self._replan_timer(), name="replan-timer")
                     tasks.create_task(self._reload_listener(), name="reload")
+                    tasks.create_task(self._ledger_reconciler(), name="ledger-retry")
                     tasks.create_task(self._clock_health_loop(), name="clock-health")
                     if self._file_poll_seconds > 0:
                         tasks.create_task(self._file_watch(), name="file-watch")
@@ -327,7 +338,12 @@ class Service:
         # Only what is still ahead: an alert past due is being delivered or swept, never "next".
         ahead = (a for a in self._plan.values() if a.due_utc >= now_utc)
         upcoming = sorted(ahead, key=lambda a: (a.due_utc, a.key))
-        counts = self._ledger.counts()
+        try:
+            counts = self._ledger.counts()
+            recent = self._ledger.recent_deliveries(SNAPSHOT_ALERTS)
+        except sqlite3.Error as exc:  # an unreadable disk: status still answers, and says why
+            counts, recent = {}, ()
+            self._ledger_failed("read status", exc)
         return ServiceSnapshot(
             taken_utc=now_utc,
             started_utc=self.started_utc or now_utc,
@@ -337,7 +353,7 @@ class Service:
             dut1_source=config.time.dut1_source,
             clock_health=self.clock_health,
             next_alerts=tuple(upcoming[:SNAPSHOT_ALERTS]),
-            recent_deliveries=self._ledger.recent_deliveries(SNAPSHOT_ALERTS),
+            recent_deliveries=recent,
             channels=self._channel_snapshot(),
             muted=dict(self._mutes),
             config_error=self.config_error,
@@ -346,6 +362,7 @@ class Service:
             clock_tolerance_seconds=self.config.time.clock_tolerance_seconds,
             mount=self._mount.view(),
             awaiting_ack=self.awaiting_acknowledgement(),
+            ledger_error=self.ledger_error,
         )
 
     def awaiting_acknowledgement(self) -> tuple[str, ...]:
@@ -396,14 +413,14 @@ class Service:
     async def mute(self, target: str, until_utc: datetime | None) -> None:
         """Mute a target (``"sky"``: Sun, Moon and twilight alerts) until a time, or until unmuted."""
         assert self._ledger is not None
-        self._ledger.set_mute(target, until_utc)
+        self._write_or_refuse("mute", lambda: self._ledger.set_mute(target, until_utc))
         self._mutes = self._ledger.mutes(self._clock.now_utc())
         log.info("muted %s %s", target, "until unmuted" if until_utc is None else f"until {_iso(until_utc)}")
         await self.replan("mute")
 
     async def unmute(self, target: str) -> bool:
         assert self._ledger is not None
-        was_muted = self._ledger.clear_mute(target)
+        was_muted = bool(self._write_or_refuse("unmute", lambda: self._ledger.clear_mute(target)))
         self._mutes = self._ledger.mutes(self._clock.now_utc())
         if was_muted:
             log.info("unmuted %s", target)
@@ -473,7 +490,10 @@ class Service:
             config = self.config
             now_utc = self._clock.now_utc()
             grace = timedelta(minutes=config.alerts.grace_minutes)
-            for row in self._ledger.sweep_missed(now_utc - grace, now_utc):
+            ledger = self._ledger
+            swept = self._write("sweep missed alerts", lambda: ledger.sweep_missed(now_utc - grace, now_utc),
+                                journal=False, fallback=())
+            for row in swept:
                 self._note_missed(row.title, row.due_utc)
             # Early enough that an event whose repeats are still owed is in the agenda.
             lookback = grace + timedelta(minutes=repeat_lookback_minutes(config))
@@ -499,7 +519,10 @@ class Service:
             if self._catch_up_floor_utc is not None:
                 planned = tuple(a for a in planned if a.due_utc >= self._catch_up_floor_utc)
             now_utc = self._clock.now_utc()  # the agenda may have taken a while
-            open_keys = self._ledger.replace_planned(planned, now_utc)
+            open_keys = self._write("plan", lambda: ledger.replace_planned(planned, now_utc), journal=False)
+            if open_keys is None:  # not written: plan from what the ledger holds and what we sent since
+                settled = self._ledger.settled_keys(planned) | self._claimed_unwritten
+                open_keys = frozenset(a.key for a in planned if a.key not in settled)
             self._plan = {a.key: a for a in planned if a.key in open_keys}
             due_now = [a for a in self._plan.values() if a.due_utc <= now_utc]
             self._scheduler.replace_jobs([a for a in self._plan.values() if a.due_utc > now_utc])
@@ -544,14 +567,18 @@ class Service:
             return
         grace_seconds = self.config.alerts.grace_minutes * 60.0
         if late_seconds > grace_seconds:
-            self._ledger.mark_missed(key, now_utc)
+            self._write("mark missed", lambda: self._ledger.mark_missed(key, now_utc))
             del self._plan[key]
             self._note_missed(alert.title, alert.due_utc)
             return
         message = _message_from_row(_row_from_alert(alert))
         # A channel with a filter (a push destination's urgency and kinds) owes only what it takes.
         names = [name for name, worker in self._workers.items() if channel_accepts(worker.channel, message)]
-        if not self._ledger.claim(key, now_utc, names):
+        claimed = self._write("claim", lambda: self._ledger.claim(key, now_utc, names),
+                              replay=lambda: self._ledger.record_claim(alert, now_utc, names))
+        if claimed is None:  # the ledger cannot be written: deliver from memory, write it later
+            self._claimed_unwritten.add(key)
+        elif not claimed:
             self._plan.pop(key, None)
             return
         del self._plan[key]
@@ -570,7 +597,9 @@ class Service:
             task = asyncio.get_running_loop().create_task(worker.run(), name=f"channel-{channel.name}")
             task.add_done_callback(self._worker_done)
             self._worker_tasks[channel.name] = task
-        adopted = self._ledger.adopt_unowned(self._workers, now_utc)
+        ledger = self._ledger
+        adopted = self._write("adopt half-sent alerts", lambda: ledger.adopt_unowned(self._workers, now_utc),
+                              fallback=0)
         if adopted:
             log.info("%d half-sent alerts from an older ledger are now owed by each channel that lacks them",
                      adopted)
@@ -579,7 +608,10 @@ class Service:
         for owed in self._ledger.owed():
             worker = self._workers.get(owed.channel)
             if worker is None:
-                for key in self._ledger.drop_channel(owed.channel, now_utc):
+                closed = self._write("drop a removed channel",
+                                     lambda c=owed.channel: ledger.drop_channel(c, now_utc),
+                                     fallback=())
+                for key in closed:
                     log.info("alert %s closed: channel %s is no longer configured", key, owed.channel)
                 continue
             row = owed.alert
@@ -623,7 +655,7 @@ class Service:
     # DeliverySink: what the workers report (delivery.DeliverySink) -------------------------------
     def started(self, channel: str, item: OwedDelivery, now_utc: datetime) -> None:
         assert self._ledger is not None
-        self._ledger.mark_started(item.message.key, channel, now_utc)
+        self._write("start mark", lambda: self._ledger.mark_started(item.message.key, channel, now_utc))
 
     def delivered(self, channel: str, item: OwedDelivery, sent: AlertMessage, now_utc: datetime) -> None:
         if not self._health.is_healthy(channel):
@@ -644,7 +676,8 @@ class Service:
         error = self._health.last_error(channel)
         log.warning("gave up sending %s on %s: past its grace (%s)", message.key, channel,
                     error or "no reason given")
-        self._ledger.channel_missed(message.key, channel, now_utc, error)
+        ledger = self._ledger
+        self._write("channel missed", lambda: ledger.channel_missed(message.key, channel, now_utc, error))
         self._note_missed(f"{message.title} (not delivered on {channel})", item.due_utc)
         self._queue.put_nowait(_SUMMARY)
 
@@ -670,17 +703,84 @@ class Service:
         self, message: AlertMessage, channel: str, now_utc: datetime, *, ok: bool, error: str = ""
     ) -> None:
         assert self._ledger is not None
-        self._ledger.record_delivery(
-            Delivery(
-                key=message.key,
-                channel=channel,
-                delivered_utc=now_utc,
-                late_seconds=message.late_seconds,
-                ok=ok,
-                error=error,
-                title=message.title,
-            )
+        delivery = Delivery(
+            key=message.key,
+            channel=channel,
+            delivered_utc=now_utc,
+            late_seconds=message.late_seconds,
+            ok=ok,
+            error=error,
+            title=message.title,
         )
+        self._write("delivery", lambda: self._ledger.record_delivery(delivery))
+
+    # -- ledger write faults ------------------------------------------------------------------------
+    def _write(self, what: str, write: Callable[[], Any], *, replay: Callable[[], Any] | None = None,
+               journal: bool = True, fallback: Any = None) -> Any:
+        """Do one ledger write; if the ledger cannot be written, keep going without it.
+
+        The failed write (``replay`` if given) is kept, in order, and written again when the disk
+        recovers (``_ledger_reconciler``); while earlier writes wait, later ones queue behind them
+        so the ledger sees them in order. ``journal=False`` writes (the plan) are simply redone by
+        the next re-plan. Returns what ``write`` returned, or ``fallback``.
+        """
+        if self._unwritten and journal:
+            self._unwritten.append((what, replay or write))
+            return fallback
+        try:
+            return write()
+        except sqlite3.Error as exc:
+            self._ledger_failed(what, exc)
+            if journal:
+                self._unwritten.append((what, replay or write))
+            return fallback
+
+    def _write_or_refuse(self, what: str, write: Callable[[], Any]) -> Any:
+        """A write a user asked for (mute): refused with the reason if the ledger cannot take it."""
+        try:
+            return write()
+        except sqlite3.Error as exc:
+            self._ledger_failed(what, exc)
+            raise ControlError(f"cannot {what} now: {self.ledger_error}") from None
+
+    def _ledger_failed(self, what: str, exc: sqlite3.Error) -> None:
+        first = not self.ledger_error
+        self.ledger_error = (
+            f"cannot write the alert ledger {self._ledger_path} ({exc}); alerts still go out but may repeat"
+            " after a restart; free disk space or fix the file"
+        )
+        if first:
+            log.error("LEDGER WRITE FAILED (%s): %s. Alerts keep going out; the writes are kept and tried"
+                      " again every %g s.", what, self.ledger_error, LEDGER_RETRY_SECONDS)
+            self._put_service_message(
+                "siderod: cannot write its alert ledger",
+                f"{self._ledger_path}: {exc}.\nAlerts still go out on every channel, but a restart may repeat"
+                " some until the ledger can be written again. Free disk space or fix the file; siderod"
+                " retries by itself.",
+                Urgency.CRITICAL,
+            )
+
+    async def _ledger_reconciler(self) -> None:
+        """Replay the writes that failed, in order, once the ledger can be written again."""
+        while True:
+            await self._clock.sleep(LEDGER_RETRY_SECONDS)
+            if not self.ledger_error:
+                continue
+            while self._unwritten:
+                what, write = self._unwritten[0]
+                try:
+                    write()
+                except sqlite3.Error as exc:
+                    log.debug("ledger still not writable (%s): %s", what, exc)
+                    break
+                self._unwritten.pop(0)
+            else:
+                count = len(self._claimed_unwritten)
+                self._claimed_unwritten.clear()
+                self.ledger_error = ""
+                log.warning("the alert ledger %s can be written again; %d alerts sent meanwhile are recorded",
+                            self._ledger_path, count)
+                await self.replan("ledger writable again")
 
     def _channel_snapshot(self) -> tuple[ChannelHealth, ...]:
         assert self._ledger is not None

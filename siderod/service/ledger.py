@@ -20,7 +20,9 @@ kernel's page cache) but not a power cut, which may lose the last few transactio
 
 from __future__ import annotations
 
+import contextlib
 import json
+import logging
 import os
 import sqlite3
 from collections.abc import Iterable, Mapping
@@ -28,10 +30,13 @@ from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
+from siderod.common.errors import LedgerUnusable
 from siderod.common.model import Delivery, PlannedAlert
 from siderod.plan.planner import SKY_TARGET_NAME
 
-__all__ = ["Ledger", "LedgerRow", "OwedRow", "EVENT_MATCH_SECONDS"]
+__all__ = ["Ledger", "LedgerRow", "OwedRow", "EVENT_MATCH_SECONDS", "open_ledger", "LedgerUnusable"]
+
+log = logging.getLogger("siderod.ledger")
 
 # Two agenda runs can place the same event a little apart (a different search window); rows
 # whose target, kind and lead agree and whose event times are this close are the same alert.
@@ -114,6 +119,38 @@ class Ledger:
     def close(self) -> None:
         self._db.close()
 
+    def record_claim(self, alert: PlannedAlert, now_utc: datetime, channels: Iterable[str]) -> bool:
+        """A claim made while the ledger could not be written, written now (reconciling).
+
+        The alert row is added if the failed plan never wrote it; then it is claimed as usual.
+        """
+        with self._transaction():
+            self._insert_planned(alert, now_utc, ignore=True)
+            return self.claim(alert.key, now_utc, channels)
+
+    def _insert_planned(self, alert: PlannedAlert, now_utc: datetime, *, ignore: bool = False) -> None:
+        self._db.execute(
+            "INSERT " + ("OR IGNORE " if ignore else "") + "INTO alerts(key, target, kind, event_unix,"
+            " lead_minutes, due_unix, title, body, urgency, state, updated_unix)"
+            " VALUES (?,?,?,?,?,?,?,?,?, 'planned', ?)",
+            (
+                alert.key,
+                alert.event.target or SKY_TARGET_NAME,
+                alert.event.kind.value,
+                alert.event.time_utc.timestamp(),
+                alert.lead_minutes,
+                alert.due_utc.timestamp(),
+                alert.title,
+                alert.body,
+                alert.urgency.value,
+                now_utc.timestamp(),
+            ),
+        )
+
+    def settled_keys(self, alerts: Iterable[PlannedAlert]) -> frozenset[str]:
+        """The keys of ``alerts`` the ledger already holds as sent, delivered or missed (read only)."""
+        return frozenset(a.key for a in alerts if self._settled_match(a) is not None)
+
     def __enter__(self) -> Ledger:
         return self
 
@@ -137,29 +174,13 @@ class Ledger:
         Returns:
             The keys of ``alerts`` that are open (state ``planned``): the ones to schedule.
         """
-        now_unix = now_utc.timestamp()
         open_keys: set[str] = set()
         with self._transaction():
             self._db.execute("DELETE FROM alerts WHERE state = 'planned'")
             for alert in alerts:
                 if self._settled_match(alert) is not None:
                     continue
-                self._db.execute(
-                    "INSERT INTO alerts(key, target, kind, event_unix, lead_minutes, due_unix, title, body,"
-                    " urgency, state, updated_unix) VALUES (?,?,?,?,?,?,?,?,?, 'planned', ?)",
-                    (
-                        alert.key,
-                        alert.event.target or SKY_TARGET_NAME,
-                        alert.event.kind.value,
-                        alert.event.time_utc.timestamp(),
-                        alert.lead_minutes,
-                        alert.due_utc.timestamp(),
-                        alert.title,
-                        alert.body,
-                        alert.urgency.value,
-                        now_unix,
-                    ),
-                )
+                self._insert_planned(alert, now_utc)
                 open_keys.add(alert.key)
         return frozenset(open_keys)
 
@@ -183,7 +204,7 @@ class Ledger:
         True for exactly one caller, ever; only that caller's ``channels`` owe the alert.
         """
         now_unix = now_utc.timestamp()
-        with self._transaction():
+        with self._transaction(nested_ok=True):
             cursor = self._db.execute(
                 "UPDATE alerts SET state = 'sending', updated_unix = ? WHERE key = ? AND state = 'planned'",
                 (now_unix, key),
@@ -375,13 +396,18 @@ class Ledger:
         return self._db.execute("DELETE FROM mutes WHERE target = ?", (target,)).rowcount > 0
 
     def mutes(self, now_utc: datetime) -> dict[str, datetime | None]:
-        """Mutes still in force at ``now_utc`` (expired ones are removed)."""
-        self._db.execute(
-            "DELETE FROM mutes WHERE until_unix IS NOT NULL AND until_unix <= ?", (now_utc.timestamp(),)
-        )
+        """Mutes still in force at ``now_utc`` (expired ones are removed when the ledger can be written)."""
+        now_unix = now_utc.timestamp()
+        with contextlib.suppress(sqlite3.OperationalError):  # a full disk: read them all the same
+            self._db.execute("DELETE FROM mutes WHERE until_unix IS NOT NULL AND until_unix <= ?",
+                             (now_unix,))
         return {
             t: None if u is None else datetime.fromtimestamp(u, UTC)
-            for t, u in self._db.execute("SELECT target, until_unix FROM mutes ORDER BY target")
+            for t, u in self._db.execute(
+                "SELECT target, until_unix FROM mutes WHERE until_unix IS NULL OR until_unix > ?"
+                " ORDER BY target",
+                (now_unix,),
+            )
         }
 
     # -- the target in use (kept here so a restart remembers it; cleared at dawn) -------------
@@ -460,7 +486,9 @@ class Ledger:
         return row is not None
 
     # -- helpers ---------------------------------------------------------------------------
-    def _transaction(self) -> _Transaction:
+    def _transaction(self, *, nested_ok: bool = False) -> contextlib.AbstractContextManager[None]:
+        if nested_ok and self._db.in_transaction:
+            return contextlib.nullcontext()
         return _Transaction(self._db)
 
     def _settle(self, key: str, channel: str, state: str, now_utc: datetime,
@@ -539,7 +567,20 @@ class _Transaction:
         self._db.execute("BEGIN IMMEDIATE")
 
     def __exit__(self, exc_type: object, *rest: object) -> None:
-        self._db.execute("ROLLBACK" if exc_type is not None else "COMMIT")
+        if exc_type is None:
+            try:
+                self._db.execute("COMMIT")
+                return
+            except sqlite3.Error:
+                self._rollback()
+                raise
+        self._rollback()
+
+    def _rollback(self) -> None:
+        # SQLite may have rolled back already (a full disk, an I/O error): nothing left to undo.
+        if self._db.in_transaction:
+            with contextlib.suppress(sqlite3.Error):
+                self._db.execute("ROLLBACK")
 
 
 _SCHEMA = """
@@ -584,3 +625,103 @@ CREATE TABLE IF NOT EXISTS owed (
 CREATE INDEX IF NOT EXISTS owed_state ON owed(state, channel);
 CREATE TABLE IF NOT EXISTS acks (event TEXT PRIMARY KEY, acked_unix REAL NOT NULL, via TEXT NOT NULL);
 """
+
+
+# -- opening, with the faults a user can meet --------------------------------------------------
+
+_DAMAGED_MARKERS = ("file is not a database", "malformed", "corrupt")
+_READ_ONLY_MARKERS = ("readonly", "read-only", "unable to open", "disk i/o error", "permission")
+
+
+def open_ledger(path: str | os.PathLike[str], now_utc: datetime) -> tuple[Ledger, str]:
+    """Open the ledger for the service, dealing with what can be wrong with the file.
+
+    A damaged file (not a database, or failing SQLite's ``quick_check``) is moved aside as
+    ``NAME.damaged-YYYYmmddTHHMMSSZ`` (with its -wal and -shm files), never deleted, and a new
+    ledger is started. A stale ``-shm`` file the service cannot write (left by another user or a
+    copy) is moved aside too: it is only an index of the -wal file, rebuilt on open, and the
+    caller holds the single-instance lock, so no other service has the ledger open.
+
+    Returns:
+        The ledger and a notice for the user ("" when nothing had to be done).
+
+    Raises:
+        LedgerUnusable: the file or its directory cannot be written (read-only, no permission,
+            full): the message names the file and the fix.
+    """
+    path = Path(path)
+    notices = []
+    shm = Path(f"{path}-shm")
+    if shm.exists() and not _writable(shm):
+        aside = _move_aside(shm, "stale", now_utc)
+        log.warning("moved a stale read-only %s aside to %s", shm, aside)
+        notices.append(f"A stale read-only {shm.name} was moved aside to {aside.name}.")
+    try:
+        ledger = _open_checked(path)
+    except sqlite3.DatabaseError as exc:
+        text = str(exc).lower()
+        if isinstance(exc, sqlite3.OperationalError) and any(m in text for m in _READ_ONLY_MARKERS) \
+                or not any(m in text for m in _DAMAGED_MARKERS):
+            raise _unusable(path, exc) from None
+        aside = _move_aside(path, "damaged", now_utc)
+        for suffix in ("-wal", "-shm"):
+            side = Path(f"{path}{suffix}")
+            if side.exists():
+                _move_aside(side, "damaged", now_utc)
+        log.error("the alert ledger %s was damaged (%s); moved aside to %s; starting a new one",
+                  path, exc, aside)
+        notices.append(
+            f"The alert ledger {path} was damaged ({exc}). It was moved aside to {aside.name} (kept, not"
+            " deleted) and a new ledger was started: alerts owed before this start are not known to it,"
+            " and mutes were reset."
+        )
+        try:
+            ledger = _open_checked(path)
+        except sqlite3.DatabaseError as again:
+            raise _unusable(path, again) from None
+    except OSError as exc:
+        raise _unusable(path, exc) from None
+    return ledger, " ".join(notices)
+
+
+def _open_checked(path: Path) -> Ledger:
+    ledger = Ledger(path)
+    try:
+        row = ledger._db.execute("PRAGMA quick_check").fetchone()
+        if row is None or row[0] != "ok":
+            raise sqlite3.DatabaseError(f"database disk image is malformed (quick_check: {row and row[0]})")
+        if not ledger.is_new:  # a write, so a read-only file shows now rather than at the first alert
+            ledger._db.execute("UPDATE meta SET value = value WHERE name = 'schema_version'")
+    except BaseException:
+        ledger.close()
+        raise
+    return ledger
+
+
+def _unusable(path: Path, exc: BaseException) -> LedgerUnusable:
+    return LedgerUnusable(
+        f"cannot write the alert ledger {path}: {exc}. The file or its folder is read-only, not this"
+        " user's, or on a full or read-only disk. Fix: make both writable by this user"
+        f" (ls -l {path.parent}; chmod u+w {path} {path.parent}), free some space, or give the service"
+        " another state directory with XDG_STATE_HOME (the ledger is $XDG_STATE_HOME/siderod/ledger.sqlite3)."
+    )
+
+
+def _writable(path: Path) -> bool:
+    try:
+        fd = os.open(path, os.O_RDWR)
+    except OSError:
+        return False
+    os.close(fd)
+    return True
+
+
+def _move_aside(path: Path, why: str, now_utc: datetime) -> Path:
+    stamp = now_utc.astimezone(UTC).strftime("%Y%m%dT%H%M%SZ")
+    aside = path.with_name(f"{path.name}.{why}-{stamp}")
+    n = 1
+    while aside.exists():
+        n += 1
+        aside = path.with_name(f"{path.name}.{why}-{stamp}-{n}")
+    os.replace(path, aside)
+    return aside

@@ -277,6 +277,7 @@ def snapshot_to_json(snapshot: ServiceSnapshot) -> dict[str, Any]:
         "missed_count": snapshot.missed_count,
         "planned_count": snapshot.planned_count,
         "clock_tolerance_seconds": snapshot.clock_tolerance_seconds,
+        "ledger_error": snapshot.ledger_error,
         "mount": _mount_to_json(snapshot.mount),
         "awaiting_ack": list(snapshot.awaiting_ack),
     }
@@ -324,6 +325,7 @@ def snapshot_from_json(data: Any) -> ServiceSnapshot:
         missed_count=r.integer("missed_count", default=0),
         planned_count=r.integer("planned_count", default=0),
         clock_tolerance_seconds=r.number("clock_tolerance_seconds", default=1.0),
+        ledger_error=r.text("ledger_error", default=""),
         mount=_mount_from_json(r.obj("mount")) if "mount" in r.keys() else MountView(),
         awaiting_ack=tuple(_texts(r, "awaiting_ack")),
     )

@@ -458,6 +458,8 @@ def _warning_lines(inputs: BoardInputs, width: int) -> list[Text]:
                 # The error text is already masked by the push channel: no secret reaches the board.
                 out.append(_warn(width, f"push destination {channel.name[5:]} failing{why} (retried "
                                         "within grace; other channels still deliver)"))
+        if snapshot.ledger_error:
+            out.append(_warn(width, snapshot.ledger_error))
         if snapshot.config_error:
             out.append(_warn(width, f"reload failed, last good configuration kept: {snapshot.config_error}"))
     for notice in inputs.notices:
