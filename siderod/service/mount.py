@@ -66,6 +66,8 @@ NIGHT_SUN_BELOW_DEG = -6.0
 #: The Sun alert is raised only while the Sun is above this (outside astronomical night, the
 #: board's own limit for its solar caution).
 SUN_ALERT_SUN_ABOVE_DEG = -18.0
+#: Tracking off for this long (not slewing, not parked) is a stop worth an alert.
+TRACKING_STOP_CONFIRM_SECONDS = 10.0
 #: The watch looks again at least this often (Sun distance, nearest target, board values).
 REASSESS_SECONDS = 30.0
 #: Apparent places of the configured targets are recomputed this often (they move slowly).
@@ -124,6 +126,7 @@ class MountWatch:
         self.unacknowledged: dict[str, datetime] = {}  # flip/limit alerts given, by message key
         self._sun_alerted_episode = -1
         self._tracking_alerted = False
+        self._tracking_off_mono: float | None = None  # when tracking was last seen to stop
         self._link_alerted = False
         self._ever_linked = False
         self._changed = asyncio.Event()
@@ -269,6 +272,9 @@ class MountWatch:
             now_utc = self._clock.now_utc()
             self._fire_due(now_utc)
             wait_seconds = REASSESS_SECONDS
+            confirm_in = self._check_tracking_stop()
+            if confirm_in is not None:
+                wait_seconds = min(wait_seconds, confirm_in)
             if self.pending:
                 next_due = min(d.due_utc for d in self.pending)
                 wait_seconds = min(wait_seconds, max(0.0, (next_due - now_utc).total_seconds()))
@@ -387,15 +393,32 @@ class MountWatch:
         log.info("mount %s; acknowledged %d alerts", reason, len(keys))
 
     def _tracking_changed(self, tracking: bool, p: Pointing) -> None:
-        if not tracking and not p.parked and not self._tracking_alerted and self._is_night():
+        # A slew or a flip turns tracking off for a moment on many drivers (the simulator does):
+        # the stop is alerted only once it has lasted TRACKING_STOP_CONFIRM_SECONDS (the timer).
+        self._tracking_off_mono = None if tracking else self._clock.monotonic()
+        if tracking and self._tracking_alerted:
+            self._tracking_alerted = False
+            self._queue("tracking-back", "Mount tracking again", "The mount reports tracking on.",
+                        Urgency.NORMAL)
+
+    def _check_tracking_stop(self) -> float | None:
+        """Alert a confirmed stop; return the seconds until one could be confirmed (None: none)."""
+        p = self.pointing
+        since = self._tracking_off_mono
+        if p is None or since is None or self._tracking_alerted or self.link_state is not LinkState.LINKED:
+            return None
+        if p.parked or p.slewing or p.tracking is not False:
+            return None
+        left = TRACKING_STOP_CONFIRM_SECONDS - (self._clock.monotonic() - since)
+        if left > 0:
+            return left
+        self._tracking_off_mono = None
+        if self._is_night():
             self._tracking_alerted = True
             self._queue("tracking-stopped", "Mount stopped tracking",
                         "The mount reports tracking off while it is dark. A stalled mount ruins the "
                         "night: check it.", Urgency.CRITICAL)
-        elif tracking and self._tracking_alerted:
-            self._tracking_alerted = False
-            self._queue("tracking-back", "Mount tracking again", "The mount reports tracking on.",
-                        Urgency.NORMAL)
+        return None
 
     def _check_sun(self, p: Pointing, sky: _Sky) -> None:
         if sky.sun_distance_deg is None:
@@ -523,10 +546,13 @@ class IndiLink:
                 if self._watch.link_state is not LinkState.LOST:
                     self._watch.set_link(LinkState.CONNECTING, detail)
                 return False
-            self._watch.set_link(LinkState.NO_DEVICE, f"connected to {self.host}:{self.port}; waiting "
-                                 f"for {self.device or 'a telescope device'}")
+            was_lost = self._watch.link_state is LinkState.LOST
+            if not was_lost:  # a lost link stays "lost" until the mount reports again
+                self._watch.set_link(LinkState.NO_DEVICE, f"connected to {self.host}:{self.port}; "
+                                     f"waiting for {self.device or 'a telescope device'}")
             await lost.wait()
-            self._watch.set_link(LinkState.LOST if self._had_pointing else LinkState.CONNECTING,
+            lost_now = self._had_pointing or self._watch.link_state is LinkState.LOST
+            self._watch.set_link(LinkState.LOST if lost_now else LinkState.CONNECTING,
                                  f"the INDI server on {self.host}:{self.port} went away")
             return self._had_pointing
         finally:
@@ -563,7 +589,7 @@ class IndiLink:
         elif name == "CONNECTION":
             connected = values.get("CONNECT") == "On"
             self._device_connected = connected
-            if not connected:
+            if not connected and watch.link_state is not LinkState.LOST:
                 watch.set_link(LinkState.NO_DEVICE, f"{device} is not connected to its mount")
         elif name == "TELESCOPE_PIER_SIDE":
             side = PierSide.UNKNOWN
