@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import sys
-from typing import Any
 
 __all__ = ["JSON_FIELDS", "PROGRESS_MIN_TARGETS", "format_ics", "register", "run"]
 
@@ -39,7 +38,6 @@ def register(subparsers: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Compute and print; 0 on success, 1 for bad input (time, kind, target, configuration)."""
-    import json
     import os
 
     from siderod.astro.timescales import parse_iso_datetime
@@ -89,8 +87,7 @@ def run(args: argparse.Namespace) -> int:
             print(f"siderod agenda: --ics: cannot write {args.ics!r}: {exc.strerror or exc}", file=sys.stderr)
             return 1
     if args.json:
-        json.dump(_agenda_json(agenda, config), sys.stdout, indent=2)
-        sys.stdout.write("\n")
+        write_json(agenda, config, sys.stdout)
     else:
         _print_table(agenda, config)
     return 0
@@ -114,23 +111,89 @@ def _compute(config, start_utc, args, kinds):
                               progress=progress)
 
 
-def _agenda_json(agenda, config) -> dict[str, Any]:
-    from siderod.plan.agenda import event_to_json
+def write_json(agenda, config, out) -> None:
+    """Write ``siderod agenda --json`` to a text stream, streaming the events in blocks.
+
+    The object is the documented one (see the README): the header fields, ``events`` one object a
+    line, then ``classification`` and ``dark_intervals``. Numbers are written with fixed decimals
+    (angles 0.001 deg, hour angles 1e-5 h); the events are formatted as numpy byte columns, so
+    800,000 events take well under a second and no giant string is ever built.
+    """
+    import json
+
+    import numpy as np
+
+    from siderod.cli import textcols as tc
 
     def iso(dt):
         return dt.strftime("%Y-%m-%dT%H:%M:%SZ")
 
-    return {
-        "site": config.site.name,
-        "timezone": config.site.timezone,
-        "start_utc": iso(agenda.start_utc),
-        "end_utc": iso(agenda.end_utc),
-        "dut1_seconds": config.time.dut1_seconds,
-        "events": [event_to_json(e) for e in agenda.events],
-        "classification": dict(agenda.classification),
-        "dark_intervals": {name: [[iso(a), iso(b)] for a, b in spans]
-                           for name, spans in agenda.dark_intervals.items()},
-    }
+    head = {"site": config.site.name, "timezone": config.site.timezone, "start_utc": iso(agenda.start_utc),
+            "end_utc": iso(agenda.end_utc), "dut1_seconds": config.time.dut1_seconds}
+    write = _byte_writer(out)
+    write(("{\n" + "".join(f"  {json.dumps(k)}: {json.dumps(v)},\n" for k, v in head.items())
+           + '  "events": [').encode())
+    table = agenda.table
+    names = tc.text_table(tc.json_strings(table.names) + [b"null"])  # index -1: no target
+    kinds = tc.text_table([f'"{k.value}"'.encode() for k in _kinds()])
+    usable = tc.text_table([b"false", b"true", b"null"])
+    for first in range(0, len(table), _JSON_BLOCK):
+        part = table.take(slice(first, first + _JSON_BLOCK))
+        n = len(part)
+        c = tc.constant
+        write(tc.join_rows([
+            c(b',\n    {"time_utc": "', n),
+            tc.iso_column(part.time_microseconds()),
+            c(b'", "target": ', n), names[part.target],
+            c(b', "kind": ', n), kinds[part.kind],
+            c(b', "altitude_deg": ', n), tc.decimal_column(part.altitude_deg, 3),
+            c(b', "azimuth_deg": ', n), tc.decimal_column(part.azimuth_deg, 3, wrap=360.0),
+            c(b', "hour_angle_hours": ', n), tc.decimal_column(part.hour_angle_hours, 5),
+            c(b', "threshold_deg": ', n), tc.decimal_column(part.threshold_deg, 4),
+            c(b', "mark_hours": ', n), tc.decimal_column(part.mark_hours, 5),
+            c(b', "usable": ', n), usable[part.usable],
+            c(b', "moon_illuminated_fraction": ', n), tc.decimal_column(part.moon_illuminated_fraction, 3),
+            c(b"}", n),
+        ])[0 if first else 1:])  # no comma before the first event
+    write(b"\n  ],\n")
+    classes = dict(zip(agenda.target_names, (_CLASSES[c] for c in agenda.class_codes.tolist()), strict=True))
+    write(f'  "classification": {json.dumps(classes)},\n  "dark_intervals": {{'.encode())
+    # Dark intervals: one fixed-width "[begin, end]" per row, then sliced per target.
+    target = agenda.dark_target
+    k = target.size
+    begin = tc.iso_column(np.round(agenda.dark_begin_unix * 1e6).astype(np.int64), millis=False)
+    end = tc.iso_column(np.round(agenda.dark_end_unix * 1e6).astype(np.int64), millis=False)
+    more = np.zeros(k, dtype=bool)
+    more[:-1] = target[1:] == target[:-1]
+    rows = tc.join_rows([tc.constant(b'["', k), begin, tc.constant(b'", "', k), end, tc.constant(b'"]', k),
+                         tc.text_column([b"", b", "], more.astype(np.int64))], drop_nul=False)
+    width = len(rows) // k if k else 0
+    bounds = np.searchsorted(target, np.arange(len(agenda.target_names) + 1)).tolist()
+    quoted = tc.json_strings(agenda.target_names)
+    pieces = []
+    for j, name in enumerate(quoted):
+        block = rows[bounds[j] * width:bounds[j + 1] * width].replace(b"\0", b"")
+        pieces.append(name + b": [" + block + b"]")
+    write(b", ".join(pieces) + b"}\n}\n")
+
+
+_JSON_BLOCK = 65536  # events per block written: bounds the memory of the byte columns
+_CLASSES = ("normal", "circumpolar", "never-rises")  # siderod.plan.agenda.CLASSES, without importing it
+
+
+def _kinds():
+    from siderod.plan.table import KINDS
+
+    return KINDS
+
+
+def _byte_writer(out):
+    """A function writing bytes to the text stream ``out`` (to its buffer when it has one)."""
+    buffer = getattr(out, "buffer", None)
+    if buffer is not None:
+        out.flush()
+        return buffer.write
+    return lambda data: out.write(data.decode())
 
 
 def _describe(event) -> str:

@@ -1,8 +1,11 @@
-"""The agenda: every event of a time window for the configured site and targets, as records.
+"""The agenda: every event of a time window for the configured site and targets, as arrays.
 
-This is the only bridge from the array-level event engine (:mod:`siderod.astro.events`) to the
-``Event`` records the planner, the view and the command line use. It is pure: the window comes in
-as arguments, nothing reads the clock, files or the environment.
+This is the bridge from the array-level event engine (:mod:`siderod.astro.events`) to the events
+the planner, the view and the command line use. The events stay columns
+(:class:`~siderod.plan.table.EventTable`): a catalogue of 1e5 targets has ~800,000 events a day,
+and making a Python record of each costs more than finding them. Records are made at the edge,
+for the rows that are printed or scheduled (``Agenda.events`` makes them all, for small agendas).
+It is pure: the window comes in as arguments, nothing reads the clock, files or the environment.
 
 Conventions, said once:
 
@@ -23,7 +26,8 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Collection, Mapping
 from dataclasses import dataclass, field
-from datetime import UTC, datetime, timedelta
+from datetime import UTC, datetime
+from functools import cached_property
 
 import numpy as np
 
@@ -36,9 +40,11 @@ from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
 from siderod.plan.moving import ephemeris_for, is_moving, moving_places
 from siderod.plan.positions import altitude_limit, observer_for, target_stars
+from siderod.plan.table import KIND_CODES, EventTable, utc_from_unix
 
 __all__ = [
     "Agenda",
+    "CLASSES",
     "CHUNK_HOURS",
     "TARGET_CHUNK",
     "compute_agenda",
@@ -57,28 +63,59 @@ _SUN_KINDS = {
     (3, False): EventKind.ASTRONOMICAL_DUSK, (3, True): EventKind.ASTRONOMICAL_DAWN,
 }
 _ASTRONOMICAL_NIGHT_DEG = -18.0
-# Ties in time are listed in this order (e.g. a rise exactly at a culmination of a grazing target).
-_KIND_ORDER = {kind: i for i, kind in enumerate(EventKind)}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Agenda:
-    """The events of one window, sorted by time, plus per-target summaries.
+    """The events of one window, sorted by time, plus per-target summaries, kept as arrays.
+
+    The events stay columns (:class:`~siderod.plan.table.EventTable`) until an edge prints or
+    schedules them; ``events``, ``classification`` and ``dark_intervals`` make records and mappings
+    on first use, for callers that want them.
 
     Attributes:
         start_utc, end_utc: the window, aware UTC datetimes (half-open).
-        events: every event, sorted by time (then kind, then target).
-        classification: target name -> "circumpolar" (usable all window), "never-rises" (never
-            usable in the window) or "normal".
-        dark_intervals: target name -> ((begin_utc, end_utc), ...): usable while the Sun is below
-            -18 deg.
+        table: every event, sorted by time (then kind, then target name).
+        target_names: every chosen target, in configuration order (fixed pointings included).
+        class_codes: per target in ``target_names``, an index into :data:`CLASSES`.
+        dark_target, dark_begin_unix, dark_end_unix: the dark intervals (usable while the Sun is
+            below -18 deg) as flat arrays, sorted by target then time; ``dark_target`` indexes
+            ``target_names``.
     """
 
     start_utc: datetime
     end_utc: datetime
-    events: tuple[Event, ...]
-    classification: Mapping[str, str] = field(default_factory=dict)
-    dark_intervals: Mapping[str, tuple[tuple[datetime, datetime], ...]] = field(default_factory=dict)
+    table: EventTable
+    target_names: tuple[str, ...] = ()
+    class_codes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int8))
+    dark_target: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    dark_begin_unix: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    dark_end_unix: np.ndarray = field(default_factory=lambda: np.zeros(0))
+
+    @cached_property
+    def events(self) -> tuple[Event, ...]:
+        """Every event as an ``Event`` record, sorted like ``table``."""
+        return self.table.records()
+
+    @cached_property
+    def classification(self) -> Mapping[str, str]:
+        """Target name -> "circumpolar" (usable all window), "never-rises" (never usable in the
+        window) or "normal"."""
+        return dict(zip(self.target_names, (CLASSES[c] for c in self.class_codes.tolist()), strict=True))
+
+    @cached_property
+    def dark_intervals(self) -> Mapping[str, tuple[tuple[datetime, datetime], ...]]:
+        """Target name -> ((begin_utc, end_utc), ...)."""
+        spans: dict[str, list[tuple[datetime, datetime]]] = {name: [] for name in self.target_names}
+        for j, a, b in zip(self.dark_target.tolist(), self.dark_begin_unix.tolist(),
+                           self.dark_end_unix.tolist(), strict=True):
+            spans[self.target_names[j]].append((_utc(a), _utc(b)))
+        return {name: tuple(v) for name, v in spans.items()}
+
+
+#: Whole-window classes, by code (``Agenda.class_codes``).
+CLASSES = ("normal", "circumpolar", "never-rises")
+_NORMAL, _CIRCUMPOLAR, _NEVER_RISES = range(3)
 
 
 def compute_agenda(config: Config, start_utc: datetime, hours: float | None = None, *,
@@ -96,7 +133,7 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
         progress: called as ``progress(done, total)`` (targets) after each pass over a chunk.
 
     Returns:
-        Agenda: the sorted events and the per-target summaries.
+        Agenda: the sorted events (as arrays) and the per-target summaries.
 
     Raises:
         ValueError: a naive ``start_utc``, a non-positive ``hours``, or an unknown target name (the
@@ -115,41 +152,59 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
     observer = observer_for(config)
     dut1 = config.time.dut1_seconds
 
-    records: list[Event] = []
-    night = _night_intervals(observer, start_unix, end_unix, dut1, records, wanted)
-    if wanted & {EventKind.MOONRISE, EventKind.MOONSET}:
-        records.extend(_moon_events(observer, start_unix, end_unix, dut1, wanted))
-
     # Fixed places and moving bodies go in separate chunks: a chunk shares one track, and only a
     # moving body's track carries parallax and needs the extra refinement steps.
-    sky = [t for t in chosen if t.frame is not Frame.HADEC and not is_moving(t)]
+    stars = [t for t in chosen if t.frame is not Frame.HADEC and not is_moving(t)]
     moving = [t for t in chosen if is_moving(t)]
+    sky = stars + moving
     fixed = [t for t in chosen if t.frame is Frame.HADEC]
-    classification: dict[str, str] = {}
-    dark: dict[str, tuple[tuple[datetime, datetime], ...]] = {}
-    total = len(sky) + len(moving)
-    done = 0
-    groups = [sky[i:i + TARGET_CHUNK] for i in range(0, len(sky), TARGET_CHUNK)]
-    groups += [moving[i:i + TARGET_CHUNK] for i in range(0, len(moving), TARGET_CHUNK)]
-    for group in groups:
-        up_at_start, crossings = _target_pieces(config, observer, group, start_unix, end_unix, wanted,
-                                                records)
-        for j, target in enumerate(group):
-            times, rising = crossings.get(j, ((), ()))
-            classification[target.name] = _classify(up_at_start[j], len(times))
-            up = ev.intervals_from_crossings(up_at_start[j], times, rising, start_unix, end_unix)
-            dark[target.name] = _as_datetimes(ev.intersect_intervals(up, night))
-        done += len(group)
-        if progress is not None:
-            progress(done, total)
-    for target in fixed:
-        usable = _fixed_usable(config, target)
-        classification[target.name] = "circumpolar" if usable else "never-rises"
-        dark[target.name] = _as_datetimes(night) if usable else ()
+    sky_names = [t.name for t in sky]
+    parts: list[EventTable] = []
+    night = _night_intervals(observer, start_unix, end_unix, dut1, parts, wanted, sky_names)
+    if wanted & {EventKind.MOONRISE, EventKind.MOONSET}:
+        parts.append(_moon_events(observer, start_unix, end_unix, dut1, wanted, sky_names))
 
-    records.sort(key=lambda e: (e.time_utc, _KIND_ORDER[e.kind], e.target or ""))
-    return Agenda(start_utc=_utc(start_unix), end_utc=_utc(end_unix), events=tuple(records),
-                  classification=classification, dark_intervals=dark)
+    # Sky targets come first in these arrays (index j), fixed pointings after them.
+    class_codes = np.zeros(len(sky) + len(fixed), dtype=np.int8)
+    dark_parts: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+    total = len(sky)
+    starts = list(range(0, len(stars), TARGET_CHUNK)) + list(range(len(stars), total, TARGET_CHUNK))
+    for first in starts:
+        group = sky[first:min(first + TARGET_CHUNK, len(stars) if first < len(stars) else total)]
+        up_at_start, cross_idx, cross_t, cross_rising = _target_pieces(
+            config, observer, group, first, start_unix, end_unix, wanted, parts, sky_names)
+        count = np.bincount(cross_idx, minlength=len(group))
+        class_codes[first:first + len(group)] = np.where(
+            count > 0, _NORMAL, np.where(up_at_start, _CIRCUMPOLAR, _NEVER_RISES))
+        dark_parts.append(_dark_spans(up_at_start, cross_idx, cross_t, cross_rising, start_unix, end_unix,
+                                      night, offset=first))
+        if progress is not None:
+            progress(first + len(group), total)
+    for k, target in enumerate(fixed):
+        usable = _fixed_usable(config, target)
+        class_codes[len(sky) + k] = _CIRCUMPOLAR if usable else _NEVER_RISES
+        if usable and len(night):
+            dark_parts.append((np.full(len(night), len(sky) + k), night[:, 0].copy(), night[:, 1].copy()))
+
+    # Report targets in the order they were configured (sky and fixed pointings interleaved).
+    summarised = {t.name for t in sky} | {t.name for t in fixed}
+    order_names = [t.name for t in chosen if t.name in summarised]
+    position = {name: i for i, name in enumerate(order_names)}
+    remap = np.array([position[t.name] for t in sky + fixed], dtype=np.int64)
+    codes = np.empty_like(class_codes)
+    codes[remap] = class_codes
+    if dark_parts:
+        dt = remap[np.concatenate([p[0] for p in dark_parts]).astype(np.int64)]
+        db = np.concatenate([p[1] for p in dark_parts])
+        de = np.concatenate([p[2] for p in dark_parts])
+        order = np.lexsort((db, dt))
+        dt, db, de = dt[order], db[order], de[order]
+    else:
+        dt, db, de = np.zeros(0, dtype=np.int64), np.zeros(0), np.zeros(0)
+    table = EventTable.concat(parts, sky_names).sorted()
+    return Agenda(start_utc=_utc(start_unix), end_utc=_utc(end_unix), table=table,
+                  target_names=tuple(order_names), class_codes=codes, dark_target=dt, dark_begin_unix=db,
+                  dark_end_unix=de)
 
 
 def event_to_json(event: Event) -> dict:
@@ -174,6 +229,53 @@ def event_to_json(event: Event) -> dict:
     }
 
 
+def _dark_spans(up_at_start, idx, t, rising, start_unix, end_unix, night, *, offset):
+    """Usable-and-dark intervals of many targets at once: ``(target, begin, end)`` flat arrays.
+
+    The same rule as :func:`siderod.astro.events.intervals_from_crossings` per target (a crossing
+    that does not change the state is ignored; empty intervals are dropped), intersected with the
+    night intervals, without a Python loop over targets.
+    """
+    up_at_start = np.asarray(up_at_start, dtype=bool)
+    n = up_at_start.size
+    if idx.size:
+        first = np.ones(idx.size, dtype=bool)
+        first[1:] = idx[1:] != idx[:-1]
+        before = np.empty(idx.size, dtype=bool)
+        before[first] = up_at_start[idx[first]]
+        before[~first] = rising[:-1][~first[1:]]
+        begins = rising & ~before
+        ends = ~rising & before
+        last = np.ones(idx.size, dtype=bool)
+        last[:-1] = idx[1:] != idx[:-1]
+        final_up = up_at_start.copy()
+        final_up[idx[last]] = rising[last]
+    else:
+        begins = ends = np.zeros(0, dtype=bool)
+        final_up = up_at_start
+    every = np.arange(n)
+    b_target = np.concatenate([every[up_at_start], idx[begins]])
+    b_time = np.concatenate([np.full(int(up_at_start.sum()), float(start_unix)), t[begins]])
+    e_target = np.concatenate([idx[ends], every[final_up]])
+    e_time = np.concatenate([t[ends], np.full(int(final_up.sum()), float(end_unix))])
+    bo = np.lexsort((b_time, b_target))
+    eo = np.lexsort((e_time, e_target))
+    target, begin, end = b_target[bo], b_time[bo], e_time[eo]
+    keep = end > begin
+    target, begin, end = target[keep], begin[keep], end[keep]
+    out_t, out_b, out_e = [], [], []
+    for lo, hi in np.asarray(night, dtype=float).reshape(-1, 2).tolist():
+        b = np.maximum(begin, lo)
+        e = np.minimum(end, hi)
+        ok = e > b
+        out_t.append(target[ok] + offset)
+        out_b.append(b[ok])
+        out_e.append(e[ok])
+    if not out_t:
+        return np.zeros(0, dtype=np.int64), np.zeros(0), np.zeros(0)
+    return np.concatenate(out_t), np.concatenate(out_b), np.concatenate(out_e)
+
+
 # ---------------------------------------------------------------------------------------------
 # targets
 
@@ -194,13 +296,13 @@ def _limit_for(config: Config, targets: list[Target], observer: Observer) -> ev.
     return altitude_limit(config, targets)  # the one definition, shared with `now` and the board
 
 
-def _target_pieces(config, observer, group, start_unix, end_unix, wanted, records):
+def _target_pieces(config, observer, group, offset, start_unix, end_unix, wanted, parts, names):
     """Events of one chunk of sky targets, over the whole window (cut into <= 48 h pieces).
 
-    Returns the per-target "usable at the start" flags and, per target index, the usable-limit
-    crossings (times, rising) used for classification and dark intervals.
+    Appends event tables to ``parts`` (target indices shifted by ``offset`` into ``names``) and
+    returns the per-target "usable at the start" flags and the usable-limit crossings as flat
+    arrays ``(index, unix, rising)`` sorted by target then time, for classes and dark intervals.
     """
-    names = [t.name for t in group]
     limit = _limit_for(config, group, observer)
     lat = config.site.latitude_deg
     lon = config.site.longitude_deg
@@ -208,7 +310,7 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
     mid_jd_tt = float(instants_from_unix(0.5 * (start_unix + end_unix), dut1_seconds=dut1).jd_tt)
     bodies = is_moving(group[0])
     stars = None if bodies else target_stars(group, mid_jd_tt)
-    crossings: dict[int, tuple[list[float], list[bool]]] = {}
+    cross: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
     up_at_start = None
     piece_start = start_unix
     while piece_start < end_unix - ev.EDGE_TOLERANCE_SECONDS:
@@ -224,25 +326,23 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
             track = ev.build_track(stars, piece_start, piece_end, dut1_seconds=dut1)
         if up_at_start is None:
             alt, az, _ = ev.target_altaz(track, last, lat, np.full(len(group), start_unix))
-            up_at_start = (alt >= limit.geometric_deg(az)).tolist()
-        maker = _EventMaker(track, last, lat, limit, names, records, _SunPath(piece_start, piece_end))
+            up_at_start = alt >= limit.geometric_deg(az)
+        maker = _EventMaker(track, last, lat, limit, names, parts, offset, _SunPath(piece_start, piece_end))
         _hour_angle_kinds(config, maker, track, last, lat, piece_start, piece_end, wanted)
         # Rise and set: always computed (classification and dark intervals need them).
         flat = np.flatnonzero(~limit.depends_on_azimuth())
         profiled = np.flatnonzero(limit.depends_on_azimuth())
         floor_geo = limit.to_geometric_deg(limit.min_alt_deg)
-        parts = []
+        found = []
         if flat.size:
-            parts.append(ev.find_altitude_events(track, last, lat, floor_geo[flat], piece_start, piece_end,
+            found.append(ev.find_altitude_events(track, last, lat, floor_geo[flat], piece_start, piece_end,
                                                  index=flat))
         if profiled.size:
-            parts.append(ev.find_limit_events(track, last, lat, limit, piece_start, piece_end,
+            found.append(ev.find_limit_events(track, last, lat, limit, piece_start, piece_end,
                                               index=profiled))
-        for idx, times, rising in parts:
-            for j, t, r in zip(idx.tolist(), times.tolist(), rising.tolist(), strict=True):
-                entry = crossings.setdefault(j, ([], []))
-                entry[0].append(t)
-                entry[1].append(r)
+        for idx, times, rising in found:
+            cross.append((np.asarray(idx, dtype=np.int64), np.asarray(times, dtype=float),
+                          np.asarray(rising, dtype=bool)))
             maker.crossings(idx, times, rising, EventKind.RISE, EventKind.SET, wanted, threshold=None)
         for threshold in config.events.altitudes_deg:
             if not wanted & {EventKind.ALTITUDE_UP, EventKind.ALTITUDE_DOWN}:
@@ -252,11 +352,15 @@ def _target_pieces(config, observer, group, start_unix, end_unix, wanted, record
             maker.crossings(idx, times, rising, EventKind.ALTITUDE_UP, EventKind.ALTITUDE_DOWN, wanted,
                             threshold=threshold)
         piece_start = piece_end
-    for j in crossings:
-        times, rising = crossings[j]
-        order = np.argsort(times, kind="stable")
-        crossings[j] = (np.asarray(times)[order], np.asarray(rising)[order])
-    return up_at_start or [], crossings
+    if up_at_start is None:
+        up_at_start = np.zeros(len(group), dtype=bool)
+    if cross:
+        idx = np.concatenate([c[0] for c in cross])
+        t = np.concatenate([c[1] for c in cross])
+        rising = np.concatenate([c[2] for c in cross])
+        order = np.lexsort((t, idx))
+        return up_at_start, idx[order], t[order], rising[order]
+    return up_at_start, np.zeros(0, dtype=np.int64), np.zeros(0), np.zeros(0, dtype=bool)
 
 
 def _moving_track(config, observer, group, start_unix, end_unix):
@@ -286,11 +390,11 @@ def _hour_angle_kinds(config, maker, track, last, lat, start, end, wanted):
 
 
 class _EventMaker:
-    """Turns the engine's arrays into Event records (one place, so every kind is filled alike)."""
+    """Turns the engine's arrays into event-table columns (one place, so every kind is filled alike)."""
 
-    def __init__(self, track, last, lat, limit: ev.AltitudeLimit, names, records, sun=None):
+    def __init__(self, track, last, lat, limit: ev.AltitudeLimit, names, parts, offset, sun=None):
         self.track, self.last, self.lat, self.limit = track, last, lat, limit
-        self.names, self.records = names, records
+        self.names, self.parts, self.offset = names, parts, offset
         self.sun = sun
 
     def _state(self, idx, times):
@@ -302,8 +406,8 @@ class _EventMaker:
         self.sun_sep = self.sun.separation_deg(times, ra, dec) if self.sun is not None else None
         return alt, az, ha, floor
 
-    def _sep(self, k):
-        return None if self.sun_sep is None else float(self.sun_sep[k])
+    def _sep(self, keep):
+        return None if self.sun_sep is None else self.sun_sep[keep]
 
     def marks(self, idx, times, kind, mark_hours, only_usable):
         if idx.size == 0:
@@ -312,29 +416,28 @@ class _EventMaker:
         usable = alt >= floor  # usable at or above the limit, as in `now` and on the board
         wrapped_mark = mark_hours - 24.0 * math.floor((mark_hours + 12.0) / 24.0)
         is_culmination = kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION)
-        for k, (j, t, a, z, h, u) in enumerate(zip(idx.tolist(), times.tolist(), alt.tolist(), az.tolist(),
-                                                   ha.tolist(), usable.tolist(), strict=True)):
-            if only_usable and not u:
-                continue
-            self.records.append(Event(
-                time_utc=_utc(t), kind=kind, target=self.names[j], altitude_deg=a, azimuth_deg=z,
-                hour_angle_hours=h, mark_hours=None if is_culmination else wrapped_mark, usable=u,
-                sun_separation_deg=self._sep(k)))
+        keep = usable if only_usable else slice(None)
+        self.parts.append(EventTable.build(
+            self.names, times[keep], KIND_CODES[kind], target=idx[keep] + self.offset,
+            altitude_deg=alt[keep], azimuth_deg=az[keep], hour_angle_hours=ha[keep],
+            mark_hours=None if is_culmination else wrapped_mark, usable=usable[keep],
+            sun_separation_deg=self._sep(keep)))
 
     def crossings(self, idx, times, rising, up_kind, down_kind, wanted, *, threshold):
         if idx.size == 0 or not wanted & {up_kind, down_kind}:
             return
-        alt, az, ha, floor = self._state(idx, times)
-        for k, (j, t, r, a, z, h, f) in enumerate(zip(idx.tolist(), times.tolist(), rising.tolist(),
-                                                      alt.tolist(), az.tolist(), ha.tolist(), floor.tolist(),
-                                                      strict=True)):
-            kind = up_kind if r else down_kind
-            if kind not in wanted:
-                continue
-            self.records.append(Event(
-                time_utc=_utc(t), kind=kind, target=self.names[j], altitude_deg=a, azimuth_deg=z,
-                hour_angle_hours=h, threshold_deg=f if threshold is None else float(threshold),
-                sun_separation_deg=self._sep(k)))
+        rising = np.asarray(rising, dtype=bool)
+        keep = np.ones(idx.size, dtype=bool)
+        if up_kind not in wanted:
+            keep &= ~rising
+        if down_kind not in wanted:
+            keep &= rising
+        alt, az, ha, floor = self._state(idx[keep], times[keep])
+        kind = np.where(rising[keep], KIND_CODES[up_kind], KIND_CODES[down_kind])
+        self.parts.append(EventTable.build(
+            self.names, times[keep], kind, target=idx[keep] + self.offset, altitude_deg=alt, azimuth_deg=az,
+            hour_angle_hours=ha, threshold_deg=floor if threshold is None else float(threshold),
+            sun_separation_deg=self._sep(slice(None))))
 
 
 class _SunPath:
@@ -368,27 +471,22 @@ def _fixed_usable(config: Config, target: Target) -> bool:
     return bool(alt_geo >= limit.geometric_deg(np.atleast_1d(az), np.array([0]))[0])
 
 
-def _classify(up_at_start: bool, crossing_count: int) -> str:
-    if crossing_count:
-        return "normal"
-    return "circumpolar" if up_at_start else "never-rises"
-
-
 # ---------------------------------------------------------------------------------------------
 # Sun and Moon
 
 
-def _night_intervals(observer, start_unix, end_unix, dut1, records, wanted):
-    """Sun events into ``records``; returns the astronomical-night intervals as an (K, 2) array."""
+def _night_intervals(observer, start_unix, end_unix, dut1, parts, wanted, names):
+    """Sun events into ``parts``; returns the astronomical-night intervals as an (K, 2) array."""
     col, times, rising = ev.find_sun_events(observer, start_unix, end_unix, dut1_seconds=dut1)
     if times.size:
         pos = observe_sun(instants_from_unix(times, dut1_seconds=dut1), observer)
-        for c, t, r, alt, az in zip(col.tolist(), times.tolist(), rising.tolist(),
-                                    pos.alt_geometric_deg.tolist(), pos.az_deg.tolist(), strict=True):
-            kind = _SUN_KINDS[(c, bool(r))]
-            if kind in wanted:
-                records.append(Event(time_utc=_utc(t), kind=kind, target=None, altitude_deg=alt,
-                                     azimuth_deg=az, threshold_deg=ev.SUN_THRESHOLDS_DEG[c]))
+        kinds = np.array([KIND_CODES[_SUN_KINDS[(c, bool(r))]] for c, r in zip(col.tolist(), rising.tolist(),
+                                                                               strict=True)], dtype=np.int8)
+        keep = np.isin(kinds, [KIND_CODES[k] for k in wanted])
+        parts.append(EventTable.build(
+            names, times[keep], kinds[keep], altitude_deg=pos.alt_geometric_deg[keep],
+            azimuth_deg=pos.az_deg[keep],
+            threshold_deg=np.asarray(ev.SUN_THRESHOLDS_DEG, dtype=float)[col[keep]]))
     sun_at_start = ev.sun_altitude_deg(start_unix, observer, dut1_seconds=dut1)
     dark_at_start = bool(sun_at_start < _ASTRONOMICAL_NIGHT_DEG)
     night = col == ev.SUN_THRESHOLDS_DEG.index(_ASTRONOMICAL_NIGHT_DEG)
@@ -396,37 +494,30 @@ def _night_intervals(observer, start_unix, end_unix, dut1, records, wanted):
     return ev.intervals_from_crossings(dark_at_start, times[night], ~rising[night], start_unix, end_unix)
 
 
-def _moon_events(observer, start_unix, end_unix, dut1, wanted):
+def _moon_events(observer, start_unix, end_unix, dut1, wanted, names):
     times, rising = ev.find_moon_events(observer, start_unix, end_unix, dut1_seconds=dut1)
-    out = []
     if times.size == 0:
-        return out
+        return EventTable.empty(names)
     instants = instants_from_unix(times, dut1_seconds=dut1)
     pos = observe_moon(instants, observer)
     fraction = moon_illuminated_fraction(instants)
-    for t, r, alt, az, k in zip(times.tolist(), rising.tolist(), pos.alt_geometric_deg.tolist(),
-                                pos.az_deg.tolist(), fraction.tolist(), strict=True):
-        kind = EventKind.MOONRISE if r else EventKind.MOONSET
-        if kind in wanted:
-            out.append(Event(time_utc=_utc(t), kind=kind, target=None, altitude_deg=alt, azimuth_deg=az,
-                             moon_illuminated_fraction=k))
-    return out
+    rising = np.asarray(rising, dtype=bool)
+    keep = np.ones(times.size, dtype=bool)
+    if EventKind.MOONRISE not in wanted:
+        keep &= ~rising
+    if EventKind.MOONSET not in wanted:
+        keep &= rising
+    kinds = np.where(rising, KIND_CODES[EventKind.MOONRISE], KIND_CODES[EventKind.MOONSET])
+    return EventTable.build(names, times[keep], kinds[keep], altitude_deg=pos.alt_geometric_deg[keep],
+                            azimuth_deg=pos.az_deg[keep],
+                            moon_illuminated_fraction=np.asarray(fraction)[keep])
 
 
 # ---------------------------------------------------------------------------------------------
 # helpers
 
 
-_EPOCH = datetime(1970, 1, 1, tzinfo=UTC)
-
-
-def _utc(unix_seconds: float) -> datetime:
-    """Aware UTC datetime, rounded to the microsecond (a leap second maps onto the next second)."""
-    return _EPOCH + timedelta(microseconds=round(unix_seconds * 1e6))
-
-
-def _as_datetimes(intervals) -> tuple[tuple[datetime, datetime], ...]:
-    return tuple((_utc(a), _utc(b)) for a, b in np.asarray(intervals).reshape(-1, 2).tolist())
+_utc = utc_from_unix
 
 
 def _azimuth(az_deg: float) -> float:

@@ -77,3 +77,36 @@ def test_bad_input_exits_1_with_a_message(argv, message, capsys):
 def test_unknown_target_exits_1_listing_the_configured_ones(capsys):
     assert main(["agenda", "--from", DEMO_FROM, "--target", "Nope"]) == 1
     assert "configured targets" in capsys.readouterr().err
+
+
+@pytest.mark.slow
+def test_streamed_json_events_equal_the_record_form(capsys):
+    # The fast writer formats columns of numbers; the reference is event_to_json on each Event
+    # record of the same agenda (Python's own rounding), value by value.
+    from datetime import UTC, datetime
+
+    from siderod.files.config import load_config
+    from siderod.plan.agenda import compute_agenda, event_to_json
+
+    assert main(["agenda", "--from", DEMO_FROM, "--hours", "30", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    start_utc = datetime(2026, 12, 14, 12, tzinfo=UTC)
+    config = load_config(None, {}, at_unix=start_utc.timestamp())  # DUT1 for the night, as the verb does
+    agenda = compute_agenda(config, start_utc, 30)
+    expected = [event_to_json(e) for e in agenda.events]
+    assert len(data["events"]) == len(expected)
+    for got, want in zip(data["events"], expected, strict=True):
+        assert got.keys() == want.keys()
+        for key, value in want.items():
+            if isinstance(value, float):
+                assert got[key] == pytest.approx(value, abs=ROUNDING_TIE), key
+            else:
+                assert got[key] == value, key
+    assert data["classification"] == agenda.classification
+    assert data["dark_intervals"] == {n: [[a.strftime("%Y-%m-%dT%H:%M:%SZ"), b.strftime("%Y-%m-%dT%H:%M:%SZ")]
+                                          for a, b in spans] for n, spans in agenda.dark_intervals.items()}
+
+
+# The writer rounds the scaled value with np.rint; Python's round() can differ by one unit in the
+# last place on exact binary ties, so values may differ by at most 1e-5 (the finest field, hours).
+ROUNDING_TIE = 1.1e-5

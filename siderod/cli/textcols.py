@@ -1,0 +1,229 @@
+"""Text for many rows at once: numbers, names and times formatted as numpy byte columns.
+
+A big agenda has about 800,000 events; formatting them one Python string at a time costs several
+seconds. Here each column is built for every row at once as an ``(N, width)`` uint8 array, the
+columns are laid side by side, and the rows are written out in one ``tobytes()``.
+
+Padding is one byte, given per call: a space where columns must line up (tables), or NUL where
+every row should be only as long as its content; :func:`join_rows` drops every NUL byte, so a
+NUL-padded row comes out as if each value had been formatted on its own (JSON, iCalendar). No
+column may contain a real NUL byte (text from configuration files never does: TOML forbids it).
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Sequence
+
+import numpy as np
+
+__all__ = [
+    "NUL",
+    "SPACE",
+    "civil_fields",
+    "constant",
+    "decimal_column",
+    "digits_column",
+    "hhmmss_column",
+    "iso_column",
+    "join_rows",
+    "json_strings",
+    "pick",
+    "text_column",
+    "text_table",
+]
+
+NUL = 0
+SPACE = 0x20
+_ZERO = 0x30
+_MINUS = 0x2D
+_PLUS = 0x2B
+_DOT = 0x2E
+
+
+def constant(text: bytes | str, rows: int) -> np.ndarray:
+    """The same bytes on every row: an ``(rows, len)`` read-only view, no copy."""
+    data = np.frombuffer(text.encode() if isinstance(text, str) else text, dtype=np.uint8)
+    return np.broadcast_to(data, (rows, data.size))
+
+
+def digits_column(values, width: int) -> np.ndarray:
+    """Non-negative integers, zero-padded to ``width`` digits (``7`` -> ``b"07"``); ``(N, width)``."""
+    v = np.asarray(values, dtype=np.int64).reshape(-1)
+    out = np.empty((v.size, width), dtype=np.uint8)
+    col = width
+    while col >= 2:  # two digits per step, from a 100-entry table
+        out[:, col - 2:col] = _PAIRS[v % 100]
+        v = v // 100
+        col -= 2
+    if col == 1:
+        out[:, 0] = _ZERO + v % 10
+    return out
+
+
+_PAIRS = np.array([[_ZERO + i // 10, _ZERO + i % 10] for i in range(100)], dtype=np.uint8)
+
+
+def decimal_column(values, decimals: int, *, pad: int = NUL, plus: bool = False, null: bytes = b"null",
+                   wrap: float | None = None) -> np.ndarray:
+    """Numbers rounded to ``decimals`` places, right-aligned in an ``(N, width)`` array.
+
+    Rounding is half to even on the scaled value (``np.rint``), the way ``f"{x:.3f}"`` rounds all
+    but a few exact binary ties. Zero is never signed (no ``-0.000``); ``plus`` writes ``+`` before
+    non-negative values. NaN becomes ``null`` (right-aligned too).
+
+    Args:
+        values: (N,) floats; |value| below 1e15 / 10**decimals.
+        decimals: digits after the point (0: no point).
+        pad: the padding byte on the left.
+        plus: sign every non-negative value with ``+``.
+        null: the text for NaN.
+        wrap: if given, a rounded value >= ``wrap`` is written as 0 (azimuth 359.9999 -> 0.000).
+    """
+    x = np.asarray(values, dtype=float).reshape(-1)
+    n = x.size
+    missing = np.isnan(x)
+    scaled = np.rint(np.where(missing, 0.0, x) * 10.0 ** decimals).astype(np.int64)
+    if wrap is not None:
+        scaled[scaled >= round(wrap * 10 ** decimals)] = 0
+    negative = scaled < 0
+    mag = np.abs(scaled)
+    int_part = mag // 10 ** decimals
+    top = int(int_part.max()) if n else 0
+    int_digits = len(str(top))
+    width = max(1 + int_digits + (1 + decimals if decimals else 0), len(null))
+    out = np.full((n, width), pad, dtype=np.uint8)
+    if n == 0:
+        return out
+    if decimals:
+        out[:, width - decimals:] = digits_column(mag % 10 ** decimals, decimals)
+        out[:, width - decimals - 1] = _DOT
+    stop = width - (1 + decimals if decimals else 0)  # just after the units digit
+    digits = digits_column(int_part, int_digits)
+    # How many integer digits each row has (at least one), to blank the leading zeros.
+    count = np.ones(n, dtype=np.int64)
+    for k in range(1, int_digits):
+        count += int_part >= 10 ** k
+    shown = np.arange(int_digits) >= (int_digits - count)[:, None]
+    out[:, stop - int_digits:stop] = np.where(shown, digits, np.uint8(pad))
+    rows = np.flatnonzero(negative)
+    out[rows, stop - 1 - count[rows]] = _MINUS
+    if plus:
+        rows = np.flatnonzero(~negative)
+        out[rows, stop - 1 - count[rows]] = _PLUS
+    if missing.any():
+        out[missing] = pad
+        out[missing, width - len(null):] = np.frombuffer(null, dtype=np.uint8)
+    return out
+
+
+def text_table(texts: Sequence[bytes], *, pad: int = NUL) -> np.ndarray:
+    """Byte strings as the rows of an ``(M, width)`` array, padded on the right (index it per row)."""
+    width = max(1, max(map(len, texts), default=0))
+    table = np.array(list(texts), dtype=f"S{width}").view(np.uint8).reshape(len(texts), width)
+    if pad != NUL:
+        table = np.where(table == NUL, np.uint8(pad), table)
+    return table
+
+
+def text_column(texts: Sequence[bytes], index, *, pad: int = NUL) -> np.ndarray:
+    """Per row, one of some byte strings: ``texts[index[i]]``, padded on the right; ``(N, width)``."""
+    return text_table(texts, pad=pad)[np.asarray(index, dtype=np.int64)]
+
+
+def json_strings(texts: Sequence[str]) -> list[bytes]:
+    """Each text as a JSON string literal (quotes included), in one pass of the C encoder."""
+    if not texts:
+        return []
+    joined = json.dumps(list(texts))
+    # Inside an encoded string every quote is escaped, so '", "' only ever separates two items.
+    return [f'"{piece}"'.encode() for piece in joined[2:-2].split('", "')]
+
+
+def pick(choice, columns: Sequence[np.ndarray], *, pad: int = NUL) -> np.ndarray:
+    """Per row ``i``, the row of ``columns[choice[i]]`` (widths may differ: padded on the right)."""
+    choice = np.asarray(choice, dtype=np.int64)
+    width = max((c.shape[1] for c in columns), default=0)
+    out = np.full((choice.size, width), pad, dtype=np.uint8)
+    for k, col in enumerate(columns):
+        rows = choice == k
+        out[rows, :col.shape[1]] = col[rows]
+    return out
+
+
+def join_rows(columns: Sequence[np.ndarray], *, drop_nul: bool = True) -> bytes:
+    """Lay the columns side by side and return the rows as one bytes object (NULs dropped)."""
+    block = np.concatenate([np.asarray(c, dtype=np.uint8) for c in columns], axis=1)
+    flat = block.reshape(-1)
+    if drop_nul:
+        flat = flat[flat != NUL]
+    return flat.tobytes()
+
+
+def civil_fields(unix_seconds) -> dict[str, np.ndarray]:
+    """Calendar fields of whole POSIX seconds (proleptic Gregorian, no leap seconds), vectorised.
+
+    Returns a dict of int64 arrays: ``year, month, day, hour, minute, second, weekday`` (Monday 0).
+    The days-to-civil step is the well-known era/day-of-era conversion for the proleptic Gregorian
+    calendar (H. Hinnant, "chrono-compatible low-level date algorithms").
+    """
+    secs = np.asarray(unix_seconds, dtype=np.int64)
+    days = secs // 86400
+    rest = secs - days * 86400
+    z = days + 719468
+    era = z // 146097
+    doe = z - era * 146097
+    yoe = (doe - doe // 1460 + doe // 36524 - doe // 146096) // 365
+    doy = doe - (365 * yoe + yoe // 4 - yoe // 100)
+    mp = (5 * doy + 2) // 153
+    day = doy - (153 * mp + 2) // 5 + 1
+    month = np.where(mp < 10, mp + 3, mp - 9)
+    year = yoe + era * 400 + (month <= 2)
+    return {"year": year, "month": month, "day": day, "hour": rest // 3600, "minute": rest // 60 % 60,
+            "second": rest % 60, "weekday": (days + 3) % 7}
+
+
+def iso_column(micros, *, millis: bool = True, date_sep: bytes = b"-", time_sep: bytes = b":",
+               t: bytes = b"T", zone: bytes = b"Z") -> np.ndarray:
+    """UTC instants (int64 POSIX microseconds) as ISO 8601 text, truncated to the millisecond or
+    the second: ``2026-12-14T22:03:07.600Z``; the separators can be changed (``20261214T220307Z``).
+
+    The date, the time of day and the milliseconds each come from a small table built once (the
+    days in the span, 86,400 seconds, 1,000 milliseconds), so a row costs three lookups.
+    """
+    micros = np.asarray(micros, dtype=np.int64).reshape(-1)
+    n = micros.size
+    secs = micros // 1_000_000
+    days = secs // 86400
+    first = int(days.min()) if n else 0
+    span = np.arange(first, (int(days.max()) if n else first) + 1, dtype=np.int64)
+    f = civil_fields(span * 86400)
+    date_table = np.concatenate([digits_column(f["year"], 4), constant(date_sep, span.size),
+                                 digits_column(f["month"], 2), constant(date_sep, span.size),
+                                 digits_column(f["day"], 2), constant(t, span.size)], axis=1)
+    parts = [date_table[days - first], _time_of_day_table(time_sep)[secs - days * 86400]]
+    if millis:
+        parts += [constant(b".", n), _MILLIS[(micros - secs * 1_000_000) // 1000]]
+    parts.append(constant(zone, n))
+    return np.concatenate(parts, axis=1)
+
+
+def hhmmss_column(seconds_of_day, *, seconds: bool = True) -> np.ndarray:
+    """Seconds since midnight (0..86399) as ``HH:MM:SS`` (or ``HH:MM``); ``(N, 8)`` or ``(N, 5)``."""
+    table = _time_of_day_table(b":")
+    return table[np.asarray(seconds_of_day, dtype=np.int64)][:, :8 if seconds else 5]
+
+
+_TIME_TABLES: dict[bytes, np.ndarray] = {}
+_MILLIS = digits_column(np.arange(1000), 3)
+
+
+def _time_of_day_table(sep: bytes) -> np.ndarray:
+    table = _TIME_TABLES.get(sep)
+    if table is None:
+        s = np.arange(86400)
+        table = np.concatenate([digits_column(s // 3600, 2), constant(sep, s.size),
+                                digits_column(s // 60 % 60, 2), constant(sep, s.size),
+                                digits_column(s % 60, 2)], axis=1)
+        _TIME_TABLES[sep] = table
+    return table

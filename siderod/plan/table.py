@@ -1,0 +1,188 @@
+"""Events as columns: the array form the pure layers pass along until an edge prints or schedules them.
+
+A catalogue of 1e5 targets has about 800,000 events a day. Made into one Python record each, they
+cost seconds and hundreds of megabytes before anything is printed, so the agenda keeps them as
+numpy columns (:class:`EventTable`) and makes :class:`~siderod.common.model.Event` records only
+for the rows an edge asks for (:meth:`EventTable.event`, :meth:`EventTable.records`).
+
+Absent values, said once: NaN in the float columns (``hour_angle_hours``, ``threshold_deg``,
+``mark_hours``, ``moon_illuminated_fraction``), -1 in ``target`` (Sun, Moon and twilight events)
+and in ``usable`` (where it does not apply).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+from datetime import UTC, datetime, timedelta
+
+import numpy as np
+
+from siderod.common.model import Event, EventKind
+
+__all__ = ["KINDS", "KIND_CODES", "EventTable", "utc_from_unix"]
+
+#: Event kinds by code; the code order is also the tie order of the agenda (the enum's order).
+KINDS: tuple[EventKind, ...] = tuple(EventKind)
+#: EventKind -> its code in ``EventTable.kind``.
+KIND_CODES = {kind: code for code, kind in enumerate(KINDS)}
+
+_EPOCH = datetime(1970, 1, 1, tzinfo=UTC)
+_FLOAT_COLUMNS = ("time_unix", "altitude_deg", "azimuth_deg", "hour_angle_hours", "threshold_deg",
+                  "mark_hours", "moon_illuminated_fraction", "sun_separation_deg")
+
+
+def utc_from_unix(unix_seconds: float) -> datetime:
+    """Aware UTC datetime, rounded to the microsecond (a leap second maps onto the next second)."""
+    return _EPOCH + timedelta(microseconds=round(unix_seconds * 1e6))
+
+
+@dataclass(frozen=True, eq=False)
+class EventTable:
+    """N events as parallel arrays (each of shape (N,)).
+
+    Attributes:
+        time_unix: POSIX seconds (float64).
+        kind: codes into :data:`KINDS` (int8).
+        target: index into ``names`` (int32), -1 for Sun, Moon and twilight events.
+        altitude_deg, azimuth_deg: the position at the event (float64).
+        hour_angle_hours, threshold_deg, mark_hours, moon_illuminated_fraction,
+            sun_separation_deg: float64, NaN where they do not apply.
+        usable: 1, 0, or -1 where it does not apply (int8).
+        names: target names that ``target`` indexes.
+    """
+
+    time_unix: np.ndarray
+    kind: np.ndarray
+    target: np.ndarray
+    altitude_deg: np.ndarray
+    azimuth_deg: np.ndarray
+    hour_angle_hours: np.ndarray
+    threshold_deg: np.ndarray
+    mark_hours: np.ndarray
+    usable: np.ndarray
+    moon_illuminated_fraction: np.ndarray
+    sun_separation_deg: np.ndarray
+    names: tuple[str, ...] = ()
+
+    # -- building ------------------------------------------------------------------------------
+    @classmethod
+    def build(cls, names: Sequence[str], time_unix, kind, *, target=None, altitude_deg, azimuth_deg,
+              hour_angle_hours=None, threshold_deg=None, mark_hours=None, usable=None,
+              moon_illuminated_fraction=None, sun_separation_deg=None) -> EventTable:
+        """Columns from arrays or scalars (scalars are broadcast; None means absent)."""
+        t = np.asarray(time_unix, dtype=float).reshape(-1)
+        n = t.size
+
+        def col(value, dtype, absent):
+            if value is None:
+                return np.full(n, absent, dtype=dtype)
+            return np.broadcast_to(np.asarray(value, dtype=dtype), (n,)).copy()
+
+        return cls(time_unix=t, kind=col(kind, np.int8, 0), target=col(target, np.int32, -1),
+                   altitude_deg=col(altitude_deg, float, np.nan), azimuth_deg=col(azimuth_deg, float, np.nan),
+                   hour_angle_hours=col(hour_angle_hours, float, np.nan),
+                   threshold_deg=col(threshold_deg, float, np.nan), mark_hours=col(mark_hours, float, np.nan),
+                   usable=col(usable, np.int8, -1),
+                   moon_illuminated_fraction=col(moon_illuminated_fraction, float, np.nan),
+                   sun_separation_deg=col(sun_separation_deg, float, np.nan), names=tuple(names))
+
+    @classmethod
+    def empty(cls, names: Sequence[str] = ()) -> EventTable:
+        return cls.build(names, np.zeros(0), 0, altitude_deg=np.zeros(0), azimuth_deg=np.zeros(0))
+
+    @classmethod
+    def concat(cls, parts: Iterable[EventTable], names: Sequence[str]) -> EventTable:
+        """Join tables whose ``target`` columns already index ``names``."""
+        parts = list(parts)
+        if not parts:
+            return cls.empty(names)
+        columns = {f: np.concatenate([getattr(p, f) for p in parts]) for f in _COLUMNS}
+        return cls(**columns, names=tuple(names))
+
+    @classmethod
+    def from_records(cls, events: Iterable[Event]) -> EventTable:
+        """The table of some ``Event`` records (the reverse of :meth:`records`)."""
+        events = list(events)
+        names: dict[str, int] = {}
+        target = [-1 if e.target is None else names.setdefault(e.target, len(names)) for e in events]
+
+        def floats(attr):
+            return np.array([np.nan if getattr(e, attr) is None else getattr(e, attr) for e in events],
+                            dtype=float)
+
+        return cls(time_unix=np.array([e.time_utc.timestamp() for e in events], dtype=float),
+                   kind=np.array([KIND_CODES[e.kind] for e in events], dtype=np.int8),
+                   target=np.array(target, dtype=np.int32),
+                   altitude_deg=floats("altitude_deg"), azimuth_deg=floats("azimuth_deg"),
+                   hour_angle_hours=floats("hour_angle_hours"), threshold_deg=floats("threshold_deg"),
+                   mark_hours=floats("mark_hours"),
+                   usable=np.array([-1 if e.usable is None else int(e.usable) for e in events],
+                                   dtype=np.int8),
+                   moon_illuminated_fraction=floats("moon_illuminated_fraction"),
+                   sun_separation_deg=floats("sun_separation_deg"), names=tuple(names))
+
+    # -- reading -------------------------------------------------------------------------------
+    def __len__(self) -> int:
+        return int(self.time_unix.size)
+
+    def take(self, rows) -> EventTable:
+        """The rows selected by an index array or a boolean mask, in that order."""
+        return EventTable(**{f: getattr(self, f)[rows] for f in _COLUMNS}, names=self.names)
+
+    def time_microseconds(self) -> np.ndarray:
+        """Event times as int64 POSIX microseconds, rounded as :func:`utc_from_unix` rounds."""
+        return np.round(self.time_unix * 1e6).astype(np.int64)
+
+    def sorted(self) -> EventTable:
+        """Sorted by time (to the microsecond), then kind (enum order), then target name."""
+        if len(self) == 0:
+            return self
+        micros = self.time_microseconds()
+        order = np.lexsort((self.kind, micros))
+        t, k = micros[order], self.kind[order]
+        if np.any((t[1:] == t[:-1]) & (k[1:] == k[:-1])):
+            # Ties in time and kind are rare; only then rank the names (a sort of every name).
+            rank = np.empty(len(self.names) + 1, dtype=np.int64)
+            rank[-1] = -1  # Sun/Moon events (target -1) sort as the empty name, before every target
+            by_name = sorted(range(len(self.names)), key=self.names.__getitem__)
+            rank[np.array(by_name, dtype=np.int64)] = np.arange(len(self.names))
+            order = np.lexsort((rank[self.target], self.kind, micros))
+        return self.take(order)
+
+    def target_names(self) -> list[str | None]:
+        """Per row, the target name or None."""
+        lookup = list(self.names) + [None]
+        return [lookup[i] for i in self.target.tolist()]
+
+    def event(self, row: int) -> Event:
+        """One row as an ``Event`` record."""
+        return self._records(np.array([row]))[0]
+
+    def records(self) -> tuple[Event, ...]:
+        """Every row as an ``Event`` record (costly for big tables: make them only at the edge)."""
+        return tuple(self._records(np.arange(len(self))))
+
+    def _records(self, rows) -> list[Event]:
+        lists = {f: _optional(getattr(self, f)[rows]) for f in _FLOAT_COLUMNS[1:]}
+        usable = [None if u < 0 else bool(u) for u in self.usable[rows].tolist()]
+        names = list(self.names) + [None]
+        return [
+            Event(time_utc=utc_from_unix(t), kind=KINDS[k], target=names[j], altitude_deg=a, azimuth_deg=z,
+                  hour_angle_hours=h, threshold_deg=th, mark_hours=m, usable=u, moon_illuminated_fraction=f,
+                  sun_separation_deg=sep)
+            for t, k, j, a, z, h, th, m, u, f, sep in zip(
+                self.time_unix[rows].tolist(), self.kind[rows].tolist(), self.target[rows].tolist(),
+                lists["altitude_deg"], lists["azimuth_deg"], lists["hour_angle_hours"],
+                lists["threshold_deg"], lists["mark_hours"], usable, lists["moon_illuminated_fraction"],
+                lists["sun_separation_deg"], strict=True)
+        ]
+
+
+_COLUMNS = ("time_unix", "kind", "target", "altitude_deg", "azimuth_deg", "hour_angle_hours", "threshold_deg",
+            "mark_hours", "usable", "moon_illuminated_fraction", "sun_separation_deg")
+
+
+def _optional(values: np.ndarray) -> list[float | None]:
+    return [None if math.isnan(v) else v for v in values.tolist()]
