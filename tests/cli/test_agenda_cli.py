@@ -110,3 +110,24 @@ def test_streamed_json_events_equal_the_record_form(capsys):
 # The writer rounds the scaled value with np.rint; Python's round() can differ by one unit in the
 # last place on exact binary ties, so values may differ by at most 1e-5 (the finest field, hours).
 ROUNDING_TIE = 1.1e-5
+
+
+@pytest.mark.parametrize("hours", ["100000", "240.5", "inf"])
+def test_hours_beyond_the_window_cap_is_a_usage_error(hours, capsys):
+    # issue 13 item 7: --hours 100000 ran for 511 s and took 4 GB. The cap is the one the
+    # configuration puts on [events] window_hours; a malformed command line exits 2.
+    assert main(["agenda", "--from", DEMO_FROM, "--hours", hours]) == 2
+    err = capsys.readouterr().err
+    assert "--hours" in err and "at most 240 hours" in err
+
+
+def test_hours_cap_is_the_configuration_cap(tmp_path):
+    from siderod.cli.agenda import MAX_HOURS
+    from siderod.common.errors import ConfigErrors
+    from siderod.files.config import parse_config
+
+    assert MAX_HOURS == 240.0
+    text = '[site]\nname = "x"\nlatitude = 10\nlongitude = 10\n[events]\nwindow_hours = {}\n'
+    parse_config(text.format(MAX_HOURS), str(tmp_path / "c.toml"))
+    with pytest.raises(ConfigErrors):
+        parse_config(text.format(MAX_HOURS + 0.5), str(tmp_path / "c.toml"))
