@@ -86,12 +86,26 @@ class ErfaStar:
         self.dut1 = dut1_seconds
 
     def altaz(self, unix):
+        aob, zob, _, _ = self._observed(unix, None)
+        return 90.0 - np.degrees(zob), np.degrees(aob) % 360.0
+
+    def hadec(self, unix, node_unix=None):
+        """Observed (topocentric, diurnal aberration, no refraction) hour angle and Dec, degrees.
+
+        ``node_unix`` picks the astrometry node (default: the node of each instant); differences
+        of nearby instants should share one, or the 0.005" step between nodes shows in them.
+        """
+        _, _, hob, dob = self._observed(unix, node_unix)
+        return np.degrees(hob), np.degrees(dob)
+
+    def _observed(self, unix, node_unix=None):
         t = np.asarray(unix, dtype=float)
-        node = np.clip(np.floor((t - self.start) / NODE_SECONDS).astype(int), 0, self.astrom.size - 1)
+        at = t if node_unix is None else np.asarray(node_unix, dtype=float)
+        node = np.clip(np.floor((at - self.start) / NODE_SECONDS).astype(int), 0, self.astrom.size - 1)
         u1, u2 = _jd_pair(t + self.dut1)  # UT1 for the rotation angle
         astrom = erfa.aper(erfa.era00(u1, u2), self.astrom[node])
-        aob, zob, *_ = erfa.atioq(self.ri[node], self.di[node], astrom)
-        return 90.0 - np.degrees(zob), np.degrees(aob) % 360.0
+        aob, zob, hob, dob, _ = erfa.atioq(self.ri[node], self.di[node], astrom)
+        return aob, zob, hob, dob
 
 
 def reference_crossings(star: ErfaStar, limit: Limit, start_unix, end_unix):
