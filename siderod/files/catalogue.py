@@ -14,16 +14,17 @@ Names are matched case- and space-insensitively: ``M31``, ``m 31``, ``Messier 31
 from __future__ import annotations
 
 import importlib.util
+import math
 import re
-import sqlite3
 import threading
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
-
-import numpy as np
+from typing import TYPE_CHECKING, Any
 
 from siderod.common.errors import CatalogueMissing, CatalogueNameError
+
+if TYPE_CHECKING:
+    import numpy as np
 
 __all__ = [
     "CATALOGUE_CREDIT",
@@ -202,7 +203,7 @@ def format_designation(name: str) -> str:
     >>> [format_designation(n) for n in ("NGC0224", "IC0434", "Mel022", "ESO056-115", "NGC0224A")]
     ['NGC 224', 'IC 434', 'Mel 22', 'ESO 56-115', 'NGC 224A']
     """
-    match = re.fullmatch(r"([A-Za-z]+)0*(\d+)(.*)", name)
+    match = _DESIGNATION.fullmatch(name)
     if not match:
         return name
     return f"{match[1]} {int(match[2])}{match[3]}"
@@ -215,6 +216,8 @@ class Catalogue:
     """
 
     def __init__(self, info: CatalogueInfo) -> None:
+        import sqlite3
+
         self.info = info
         uri = Path(info.path).resolve().as_uri() + "?mode=ro&immutable=1"
         # Read-only and immutable: no journal, no lock files, nothing written next to the package.
@@ -288,6 +291,8 @@ class Catalogue:
     def arrays(self) -> CatalogueArrays:
         """Every object with a place (duplicates and nonexistent entries left out), as arrays."""
         if self._arrays is None:
+            import numpy as np  # here, not at the top: `siderod --help` and quick verbs import this module
+
             rows = self._query(
                 "SELECT name, messier, type, ra, dec, COALESCE(vmag, bmag), majax, const FROM objects "
                 f"WHERE type NOT IN ({','.join('?' * len(_HIDDEN_TYPES))}) AND ra IS NOT NULL ORDER BY id",
@@ -413,8 +418,8 @@ class Catalogue:
             type_code=type_code,
             type_text=self._type_texts().get(type_code, type_code),
             kind=kind_of.get(type_code, "other"),
-            ra_deg=float(np.degrees(ra)) if ra is not None else float("nan"),
-            dec_deg=float(np.degrees(dec)) if dec is not None else float("nan"),
+            ra_deg=math.degrees(ra) if ra is not None else math.nan,
+            dec_deg=math.degrees(dec) if dec is not None else math.nan,
             constellation=const or "",
             magnitude_v=vmag,
             magnitude_b=bmag,
@@ -450,6 +455,7 @@ def _padded_forms(key: str) -> list[str]:
     return list(dict.fromkeys(forms))
 
 
+_DESIGNATION = re.compile(r"([A-Za-z]+)0*(\d+)(.*)")  # compiled once: applied to every row by arrays()
 _LOCK = threading.Lock()
 _OPENED: Catalogue | None = None
 

@@ -105,3 +105,17 @@ def test_nothing_found_is_exit_1_with_a_message(capsys):
 
 def test_no_name_and_no_filter_is_a_usage_error(capsys):
     assert main(["seek"]) == 2
+
+
+def test_building_the_command_line_imports_no_numpy():
+    # seek and shortlist name the catalogue's kinds in their --help; that must not load numpy (or the
+    # catalogue) for quick verbs such as `siderod status`. Reproduced failing before the fix.
+    import subprocess
+    import sys
+
+    probe = ("import sys\nfrom siderod.cli.main import build_parser\nbuild_parser()\n"
+             "print(sorted({'numpy', 'sqlite3'} & set(sys.modules)))\n")
+    result = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, timeout=60,
+                            check=False)
+    assert result.returncode == 0, result.stderr
+    assert result.stdout.strip() == "[]"
