@@ -21,6 +21,7 @@ import time
 import warnings
 from pathlib import Path
 
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")  # as `siderod` itself sets before numpy loads
 REPO = Path(__file__).resolve().parents[2]
 AT = "2026-12-14T17:00:00Z"  # the demo evening
 AT_UNIX = 1797267600.0
