@@ -126,3 +126,26 @@ def test_a_common_name_shared_by_two_entries_is_ambiguous(cat):
         cat.find("Eagle Nebula")
     assert info.value.reason == "ambiguous"
     assert [s.split()[0:2] for s in info.value.suggestions] == [["IC", "4703"], ["M", "16"]]
+
+
+@pytest.mark.slow  # every Messier number, several spellings each
+def test_every_messier_number_in_every_spelling(cat):
+    for number in range(1, 111):
+        expected = cat.find(f"M{number}")
+        for spelling in (f"m {number}", f"Messier {number:03d}", f"  M{number:03d} "):
+            assert cat.find(spelling) == expected, spelling
+        if expected.designation.startswith(("NGC ", "IC ")):
+            prefix, digits = expected.designation.split()[:2]
+            if digits.isdigit():  # the main entry's own number, padded and spaced any way
+                assert cat.find(f"{prefix.lower()}{int(digits):04d}") == expected
+    assert cat.find("M 102") == cat.find("M 101")
+
+
+@pytest.mark.slow
+def test_every_ngc_ic_name_round_trips_through_its_designation(cat):
+    arrays = cat.arrays()
+    sample = [label for label in arrays.labels[::97] if label.startswith(("NGC ", "IC "))]
+    assert len(sample) > 50
+    for label in sample:
+        assert cat.find(label).label == label
+        assert cat.find(label.replace(" ", "").lower()).label == label

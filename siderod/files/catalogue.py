@@ -452,6 +452,8 @@ def _padded_forms(key: str) -> list[str]:
     prefix, digits, rest = match[1], str(int(match[2])), match[3]
     widths = range(len(digits), _PADDED_WIDTH_MAX + 1)
     forms = [key] + [f"{prefix}{digits.zfill(width)}{rest}" for width in widths]
+    if rest:  # components are stored with a space: "IC0700 NED04"
+        forms += [f"{prefix}{digits.zfill(width)} {rest}" for width in widths]
     return list(dict.fromkeys(forms))
 
 
