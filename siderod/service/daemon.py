@@ -224,7 +224,8 @@ class Service:
             self._mutes = self._ledger.mutes(self._clock.now_utc())
             from siderod.service.mount import MountDesk
 
-            self._mount = MountDesk(self._clock, self._send_mount_message, self.replan)
+            self._mount = MountDesk(self._clock, self._send_mount_message, self.replan,
+                                    on_acknowledge=self._mount_acknowledged)
             self._mount.start(self.config, self._ledger)
             self._scheduler = self._make_scheduler()
             await self._scheduler.start()
@@ -369,7 +370,8 @@ class Service:
         """Event ids of critical alerts that have been given and will repeat until acknowledged."""
         assert self._ledger is not None
         pending = {event_id(a.key) for a in self._plan.values() if a.repeat_number > 0}
-        return tuple(sorted(e for e in pending if self._ledger.given(e)))
+        given = {e for e in pending if self._ledger.given(e)}
+        return tuple(sorted(given | set(self._mount.awaiting())))  # and the linked mount's own
 
     async def acknowledge(self, *, target: str | None = None, events: Sequence[str] | None = None,
                           via: str) -> tuple[str, ...]:
@@ -386,6 +388,7 @@ class Service:
                       if target is None or e.rsplit("|", 2)[0] == target]
         now_utc = self._clock.now_utc()
         fresh = self._ledger.acknowledge(events, now_utc, via)
+        self._mount.user_acknowledged(fresh)
         if not fresh:
             return ()
         dropped = self._ledger.drop_owed_of_events(fresh, now_utc)
@@ -394,6 +397,14 @@ class Service:
         log.info("acknowledged (%s): %s; their repeats stop", via, ", ".join(fresh))
         await self.replan("acknowledged")
         return fresh
+
+    def _mount_acknowledged(self, events: tuple[str, ...], reason: str) -> None:
+        """The mount acknowledged its own flip alerts (the pier side changed): keep it in the ledger."""
+        assert self._ledger is not None
+        try:
+            self._ledger.acknowledge(events, self._clock.now_utc(), f"mount ({reason})")
+        except Exception:  # the ledger's own trouble is reported by status; the mount goes on
+            log.exception("could not record the mount's acknowledgement in the ledger")
 
     def _acknowledge_from_desktop(self, key: str) -> None:
         """The desktop's Acknowledge button (called from the D-Bus signal, on the loop)."""

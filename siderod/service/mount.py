@@ -21,7 +21,7 @@ import asyncio
 import contextlib
 import logging
 from collections.abc import Awaitable, Callable, Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from datetime import UTC, datetime, timedelta
 from typing import Any
 
@@ -123,7 +123,10 @@ class MountWatch:
         self.pending: tuple[MountDue, ...] = ()
         self.acknowledged: list[tuple[tuple[str, ...], str]] = []
         self._fired: dict[str, datetime] = {}  # key -> when, this episode
-        self.unacknowledged: dict[str, datetime] = {}  # flip/limit alerts given, by message key
+        # Critical flip and limit events given and not acknowledged, by event id: they repeat by
+        # the rule of siderod.plan.insist until acknowledged (a flip, a slew away, the user).
+        self.insisting: dict[str, _Insist] = {}
+        self._episode_events: dict[EventKind, datetime] = {}  # event time fixed per episode
         self._sun_alerted_episode = -1
         self._tracking_alerted = False
         self._tracking_off_mono: float | None = None  # when tracking was last seen to stop
@@ -226,7 +229,7 @@ class MountWatch:
         self._reassess(", ".join(reasons) or "report")
         moved = "slew ended" in reasons or "pointing moved" in reasons
         now_utc = self._clock.now_utc()
-        if moved and self.unacknowledged and not any(d.due_utc <= now_utc for d in self.pending):
+        if moved and self.insisting and not any(d.due_utc <= now_utc for d in self.pending):
             # Slewed to where no flip or limit alert is due: the ones given have nothing left to warn of.
             self._acknowledge("the mount slewed away from the flip")
 
@@ -278,6 +281,9 @@ class MountWatch:
             if self.pending:
                 next_due = min(d.due_utc for d in self.pending)
                 wait_seconds = min(wait_seconds, max(0.0, (next_due - now_utc).total_seconds()))
+            next_repeat = self._repeat_due(now_utc)
+            if next_repeat is not None:
+                wait_seconds = min(wait_seconds, max(0.0, (next_repeat - now_utc).total_seconds()))
             woke = await _wait_event_or_sleep(self._changed, self._clock, wait_seconds)
             if not woke:
                 self._reassess("timer", quiet=True)
@@ -306,6 +312,8 @@ class MountWatch:
             leads = self.config.alerts.lead_minutes
             planned = plan_pointing_alerts(now_utc, ha, p, self.config.mount, leads)
             self.pending = tuple(d for d in planned if mount_due_key(d, self.episode) not in self._fired)
+            for due in planned:  # fixed at first sight, so keys and the next stage stay put
+                self._episode_events.setdefault(due.kind, due.event_utc)
         self._check_sun(p, sky)
         self._update_nearest(p)
         if not quiet:
@@ -326,8 +334,16 @@ class MountWatch:
             self._fired[key] = now_utc
             title, body = self._flip_text(due, p, now_utc)
             urgency = self.config.alerts.urgency.get(due.kind, Urgency.CRITICAL)
-            message_key = f"{key}|{_iso(due.event_utc)}"
-            self.unacknowledged[message_key] = now_utc
+            # Keys in the planner's spelling (target|kind|event time|lead), with the event time
+            # fixed for the episode, so that acknowledgements and repeats work as for any alert.
+            event_utc = self._episode_events.setdefault(due.kind, due.event_utc)
+            event = f"mount|{due.kind.value}|{_iso(event_utc)}"
+            message_key = f"{event}|{due.lead_minutes:g}"
+            if urgency is Urgency.CRITICAL:
+                insist = self.insisting.setdefault(event, _Insist(title=title, body=body, kind=due.kind.value,
+                                                                  event_utc=event_utc))
+                insist.given_utc.append(now_utc)
+                insist.title, insist.body = title, body
             self._outbox.put_nowait(AlertMessage(
                 key=message_key, title=title, body=body, urgency=urgency,
                 target="mount", kind=due.kind.value, event_utc=due.event_utc, due_utc=due.due_utc,
@@ -368,11 +384,52 @@ class MountWatch:
     def _new_episode(self, reason: str) -> None:
         self.episode += 1
         self._fired = {}
+        self._episode_events = {}
+
+    def awaiting(self) -> tuple[str, ...]:
+        """Event ids of mount alerts that repeat until acknowledged."""
+        return tuple(sorted(self.insisting))
+
+    def user_acknowledged(self, events: Sequence[str]) -> None:
+        """The user acknowledged these events (command, board, desktop): their repeats stop."""
+        for event in events:
+            self.insisting.pop(event, None)
+        self._changed.set()
+
+    def _repeat_due(self, now_utc: datetime) -> datetime | None:
+        """Send the repeats now due; return when the next one falls (None: none)."""
+        from siderod.plan.insist import format_repeat, repeat_times
+
+        rules = self.config.alerts
+        upcoming: list[datetime] = []
+        limit_utc = self._episode_events.get(EventKind.TRACKING_LIMIT)
+        for event, insist in list(self.insisting.items()):
+            next_stage = limit_utc if insist.kind == EventKind.FLIP_DUE.value else None
+            # The event's configured alerts: one per lead time, none before the first one given.
+            first = insist.given_utc[0]
+            leads = rules.lead_minutes.get(EventKind(insist.kind), (0.0,))
+            configured = sorted({max(first, insist.event_utc - timedelta(minutes=float(lead)))
+                                 for lead in leads})
+            times = repeat_times(configured, repeat_minutes=rules.repeat_minutes,
+                                 repeat_count=rules.repeat_count, next_stage_utc=next_stage)
+            for number, when in enumerate(times, start=1):
+                if number <= insist.repeats_sent:
+                    continue
+                if when > now_utc:
+                    upcoming.append(when)
+                    break
+                insist.repeats_sent = number
+                title, body = format_repeat(insist.title, insist.body, number, rules.repeat_minutes)
+                self._outbox.put_nowait(AlertMessage(
+                    key=f"{event}|r{number}", title=title, body=body, urgency=Urgency.CRITICAL,
+                    target="mount", kind=insist.kind, event_utc=insist.event_utc, due_utc=when))
+                log.warning("mount alert: %s", title)
+        return min(upcoming) if upcoming else None
 
     def _acknowledge(self, reason: str) -> tuple[str, ...]:
-        """Acknowledge every flip and limit alert given and not yet acknowledged (an event)."""
-        keys = tuple(sorted(self.unacknowledged))
-        self.unacknowledged = {}
+        """Acknowledge every mount flip and limit event given and not yet acknowledged (an event)."""
+        keys = tuple(sorted(self.insisting))
+        self.insisting = {}
         if not keys:
             return keys
         self.acknowledged.append((keys, reason))
@@ -500,6 +557,18 @@ class MountWatch:
 
 
 _BACKGROUND: set[asyncio.Task[Any]] = set()
+
+
+@dataclass(slots=True)
+class _Insist:
+    """One critical mount event given and not acknowledged: what its repeats say and how many went."""
+
+    title: str
+    body: str
+    kind: str
+    event_utc: datetime
+    given_utc: list[datetime] = field(default_factory=list)
+    repeats_sent: int = 0
 
 
 class IndiLink:
@@ -881,6 +950,14 @@ class MountDesk:
                 continue
             adjusted.append(alert if urgency is alert.urgency else replace(alert, urgency=urgency))
         return tuple(adjusted)
+
+    def awaiting(self) -> tuple[str, ...]:
+        """Event ids of the mount's own critical alerts repeating until acknowledged."""
+        return self.watch.awaiting() if self.watch is not None else ()
+
+    def user_acknowledged(self, events: Sequence[str]) -> None:
+        if self.watch is not None:
+            self.watch.user_acknowledged(events)
 
     def view(self) -> MountView:
         if self.watch is None:

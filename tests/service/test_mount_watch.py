@@ -111,7 +111,8 @@ async def test_whole_night_flip_slew_flip_stop_and_lost_link():
     watch.report(ra_hours=ra2, dec_deg=45.0, slewing=False)
     watch.report(pier_side=PierSide.WEST)
     # Slewed to where no flip is due: the two flip alerts given have nothing left to warn of.
-    assert [(len(keys), why) for keys, why in acks] == [(2, "the mount slewed away from the flip")]
+    # One event (the flip), given twice (10 min before and at it).
+    assert [(len(keys), why) for keys, why in acks] == [(1, "the mount slewed away from the flip")]
     slewed_utc = clock.now_utc()
     await _advance_to(clock, slewed_utc + timedelta(minutes=41))
     new_flips = [(m, t) for m, t in recorder.sent[len(flips):] if m.kind == "flip-due"]
@@ -127,7 +128,7 @@ async def test_whole_night_flip_slew_flip_stop_and_lost_link():
     watch.report(ra_hours=ra2, dec_deg=45.0, slewing=False)
     assert len(acks) == 2
     keys, why = acks[1]
-    assert sorted(k.split("|")[1] for k in keys) == ["flip-due", "flip-due"]
+    assert [k.split("|")[:2] for k in keys] == [["mount", "flip-due"]]
     assert "west to east" in why
     await _advance_to(clock, clock.now_utc() + timedelta(hours=1))
     assert "tracking-limit" not in recorder.kinds()
@@ -200,3 +201,36 @@ def test_target_in_use_is_cleared_at_the_next_dawn():
 
     alt = float(observe_sun(instants_from_unix(dawn.timestamp()), observer_for(config)).alt_deg)
     assert alt == pytest.approx(-6.0, abs=0.01)
+
+
+async def test_an_unacknowledged_mount_flip_repeats_by_the_insist_rule_until_acknowledged():
+    from siderod.plan.insist import repeat_times
+
+    clock = FakeClock(EVENING_UTC)
+    config = _config()
+    config = replace(config, alerts=replace(config.alerts, repeat_minutes=2.0, repeat_count=3))
+    watch, recorder, _, task = await _start(config, clock)
+    watch.set_link(LinkState.LINKED, "test")
+    watch.report(ra_hours=_ra_for_ha(clock.now_utc(), -11.0 / 60.0), dec_deg=30.0, slewing=False)
+    watch.report(pier_side=PierSide.WEST, tracking=True)
+    await _advance_to(clock, EVENING_UTC + timedelta(minutes=27), step_seconds=20.0)
+    given = [(m, t) for m, t in recorder.sent if m.kind == "flip-due"]
+    configured = [t for m, t in given if m.lead_minutes is not None]
+    repeats = [(m, t) for m, t in given if m.lead_minutes is None]
+    assert len(configured) == 2
+    # The same times the planner's rule gives; the limit (15 min of hour angle after the flip)
+    # is the next stage, so the repeats run on to it rather than stopping after three.
+    limit_utc = configured[1] + timedelta(minutes=15 / SIDEREAL_RATE)
+    expected = repeat_times(configured, repeat_minutes=2.0, repeat_count=3, next_stage_utc=limit_utc)
+    expected = [t for t in expected if t <= clock.now_utc()]
+    assert len(repeats) == len(expected) > 3
+    for (_, got), want in zip(repeats, expected, strict=True):
+        assert abs((got - want).total_seconds()) < 0.001
+    assert all("(repeat" in m.title and m.urgency is Urgency.CRITICAL for m, _ in repeats)
+    assert watch.awaiting() == (configured and (repeats[0][0].key.rsplit("|", 1)[0],))
+
+    watch.user_acknowledged(watch.awaiting())
+    count = len(recorder.sent)
+    await clock.advance(600.0)
+    assert len([m for m, _ in recorder.sent[count:] if m.kind == "flip-due"]) == 0
+    await _stop(task)

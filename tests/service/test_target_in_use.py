@@ -109,4 +109,9 @@ async def test_a_mount_alert_reaches_every_channel(tmp_path):
     for recorder in recorders:
         kinds = [r.message.kind for r in recorder.received if r.message.key.startswith("mount|")]
         assert kinds == ["flip-due", "flip-due"]  # the 10-minute warning at once, then the flip
+    # The service's acknowledgement (siderod ack, the board, the desktop) reaches the mount's own.
+    events = service.awaiting_acknowledgement()
+    assert len(events) == 1 and events[0].startswith("mount|flip-due|")
+    assert await service.acknowledge(target="mount", via="command") == events
+    assert service.awaiting_acknowledgement() == () and watch.awaiting() == ()
     await fakes.stop_service(service, task)
