@@ -30,7 +30,7 @@ EXIT_REFUSED = EXIT_BAD_INPUT
 # bounded by its own timeout); reload parses and validates the whole configuration.
 # ack re-plans without the acknowledged repeats, as mute does.
 _TIMEOUT_SECONDS = {"status": 3.0, "mute": 3.0, "unmute": 3.0, "reload": 20.0, "test-alert": 60.0,
-                    "ack": 20.0}
+                    "ack": 20.0, "use": 20.0}
 
 _DURATION_RE = re.compile(r"(?:(\d+)d)?(?:(\d+)h)?(?:(\d+)m)?(?:(\d+)s)?")
 
@@ -72,9 +72,17 @@ def register(subparsers: argparse._SubParsersAction) -> None:
     )
     ack.add_argument("target", metavar="TARGET", nargs="?",
                      help="only this target's alerts (default: all of them)")
+    use = subparsers.add_parser(
+        "use", help="say which target the mount is on (its flip alerts become the critical ones)",
+        description="Set the target in use: its flip-due and tracking-limit alerts stay critical, the "
+        "other targets' become low urgency (or none, with [mount] other_targets = \"off\"). Kept until "
+        "dawn or until changed; a linked mount sets it by itself. --none clears it.",
+    )
+    use.add_argument("target", metavar="TARGET", nargs="?", help="a target name from the configuration")
+    use.add_argument("--none", action="store_true", help="no target in use: every target alerts as usual")
     for verb, parser in (
         ("status", status), ("mute", mute), ("unmute", unmute), ("reload", reload),
-        ("test-alert", test_alert), ("ack", ack),
+        ("test-alert", test_alert), ("ack", ack), ("use", use),
     ):
         parser.add_argument("--socket", metavar="PATH", help=socket_help)
         parser.set_defaults(func=run, control_verb=verb)
@@ -94,6 +102,11 @@ def run(args: argparse.Namespace) -> int:
         request["target"] = args.target
     elif verb == "ack" and args.target:
         request["target"] = args.target
+    elif verb == "use":
+        if bool(args.target) == bool(args.none):
+            print("siderod use: give a TARGET, or --none to clear the target in use", file=sys.stderr)
+            return 2  # a malformed command line, as argparse's own (siderod.cli.main.EXIT_USAGE)
+        request["target"] = None if args.none else args.target
     try:
         result = request_once(_socket_path(args), request, timeout_seconds=_TIMEOUT_SECONDS[verb])
         if verb != "status":
@@ -196,6 +209,7 @@ def format_status(result: dict[str, Any]) -> str:
         lines.append("REPEATING until acknowledged (`siderod ack`, or A on the board):")
         for event in s.awaiting_ack:
             lines.append(f"  {_event_text(event, zone)}")
+    lines.extend(_mount_status_lines(s.mount))
     lines.append(f"next alerts ({s.planned_count} planned, {s.missed_count} missed):")
     if not s.next_alerts:
         lines.append("  none planned")
@@ -242,6 +256,39 @@ def _event_text(event: str, zone: Any) -> str:
         return event
 
 
+def _mount_status_lines(m: Any) -> list[str]:
+    """The linked mount and the target in use, for ``status`` (nothing when neither is there)."""
+    if m.link_state == "off" and m.in_use is None:
+        return []
+    from siderod.view.mountpanel import format_pointing_dec, format_pointing_ra
+
+    lines = []
+    if m.link_state != "off":
+        lines.append(f"mount:   link {m.link_state}" + (f" ({m.link_detail})" if m.link_detail else ""))
+    if m.ra_hours is not None and m.dec_deg is not None:
+        where = f"  pointing RA {format_pointing_ra(m.ra_hours)} Dec {format_pointing_dec(m.dec_deg)}"
+        where += " (of date)"
+        if m.alt_deg is not None and m.az_deg is not None:
+            where += f", alt {m.alt_deg:.1f}°, az {m.az_deg:.1f}°"
+        lines.append(where)
+        tracking = {True: "tracking", False: "NOT tracking", None: "tracking unknown"}[m.tracking]
+        state = "slewing" if m.slewing else "parked" if m.parked else tracking
+        counterweight = {True: ", counterweight UP", False: "", None: ""}[m.counterweight_up]
+        side = m.pier_side if m.pier_side != "unknown" else "not reported (flip from the hour angle alone)"
+        ha = "" if m.ha_hours is None else f"hour angle {m.ha_hours:+.3f} h, "
+        lines.append(f"  {ha}pier side {side}{counterweight}, {state}")
+        flip = "-" if m.seconds_to_flip is None else format_duration(max(0.0, m.seconds_to_flip))
+        limit = "-" if m.seconds_to_limit is None else format_duration(max(0.0, m.seconds_to_limit))
+        near = "no listed target within 1°" if m.nearest_target is None else \
+            f"on {m.nearest_target} ({m.nearest_distance_deg:.2f}°)"
+        lines.append(f"  flip in {flip}, limit in {limit}; {near}")
+    if m.link_state != "off":
+        lines.append("  advisory only: the mount's own limits stay on; siderod never moves the mount")
+    in_use = "none" if m.in_use is None else f"{m.in_use} (set by {m.in_use_source})"
+    lines.append(f"target in use: {in_use}")
+    return lines
+
+
 def _duration_arg(text: str) -> float:
     try:
         return parse_duration_seconds(text)
@@ -286,6 +333,9 @@ def _report_result(verb: str, args: argparse.Namespace, result: dict[str, Any]) 
                   "they repeat no more:")
             for event in events:
                 print(f"  {event}")
+    elif verb == "use":
+        target = result.get("target")
+        print(f"target in use: {target}" if target else "no target in use: every target alerts as usual")
     elif verb == "reload":
         if result.get("reloaded") is False:
             error = result.get("error") or "the configuration is invalid"

@@ -125,9 +125,11 @@ async def _run_view(service, clock) -> None:
         source="this service",
     )
     try:
-        # One key on the board: A acknowledges every critical alert that is repeating.
+        # Keys on the board: A acknowledges every critical alert that is repeating; U picks the
+        # target in use (nearest the meridian first, then the next, then none).
         await run_live(clock, feed.inputs_at, console, min(service.config.view.refresh_hz, 10.0),
-                       keys={"a": lambda: service.acknowledge(via="board")})
+                       keys={"a": lambda: service.acknowledge(via="board"),
+                             "u": service.cycle_target_in_use})
     finally:
         await feed.close()
 

@@ -398,6 +398,11 @@ class Service:
         await self.replan("acknowledged")
         return fresh
 
+    async def cycle_target_in_use(self) -> str | None:
+        """The board's U key: the next target in use (nearest the meridian first), then none."""
+        assert self.config is not None
+        return await self._mount.cycle(self.config)
+
     def _mount_acknowledged(self, events: tuple[str, ...], reason: str) -> None:
         """The mount acknowledged its own flip alerts (the pier side changed): keep it in the ledger."""
         assert self._ledger is not None

@@ -951,6 +951,29 @@ class MountDesk:
             adjusted.append(alert if urgency is alert.urgency else replace(alert, urgency=urgency))
         return tuple(adjusted)
 
+    async def cycle(self, config: Config) -> str | None:
+        """The board's one key: the next target in use, then none.
+
+        Candidates are the configured targets above the horizon, nearest the meridian first (the
+        one being imaged is most often near it); after the last one, nothing is in use.
+        """
+        from siderod.plan.positions import compute_sky
+
+        targets = [t for t in config.targets if t.ra_deg is not None]
+        order: list[str] = []
+        if targets:
+            sky = compute_sky(config, self._clock.now_utc().timestamp(), targets=targets)
+            rows = zip(sky.names, sky.ha_hours, sky.alt_deg, strict=True)
+            up = [(abs(float(ha)), name) for name, ha, alt in rows if float(alt) > 0.0]
+            order = [name for _, name in sorted(up)]
+        if self.in_use in order:
+            index = order.index(self.in_use) + 1
+            choice = order[index] if index < len(order) else None
+        else:
+            choice = order[0] if order else None
+        await self.use(choice, "board")
+        return choice
+
     def awaiting(self) -> tuple[str, ...]:
         """Event ids of the mount's own critical alerts repeating until acknowledged."""
         return self.watch.awaiting() if self.watch is not None else ()

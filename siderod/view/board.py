@@ -335,6 +335,10 @@ def _render_title(inputs: BoardInputs, width: int) -> Text:
 def _render_body(inputs: BoardInputs, width: int, height: int | None) -> tuple[Text, ...]:
     now_utc = inputs.now_utc
     info = [_time_facts_line(inputs, width), _sky_line(inputs, width)]
+    if inputs.snapshot is not None:  # the linked mount and the target in use (view/mountpanel.py)
+        from siderod.view.mountpanel import mount_panel_lines
+
+        info.extend(mount_panel_lines(inputs.snapshot.mount, width))
     warnings = _warning_lines(inputs, width)
     alert_lines, delivery_lines = _alert_lines(inputs, width), _delivery_lines(inputs, width)
     rows = _target_rows(inputs)

@@ -115,3 +115,24 @@ async def test_a_mount_alert_reaches_every_channel(tmp_path):
     assert await service.acknowledge(target="mount", via="command") == events
     assert service.awaiting_acknowledgement() == () and watch.awaiting() == ()
     await fakes.stop_service(service, task)
+
+
+@pytest.mark.slow
+async def test_the_board_key_cycles_through_targets_nearest_the_meridian_then_none(tmp_path):
+    from siderod.common.model import Frame, Target
+    from siderod.plan.positions import compute_sky
+
+    clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=6))  # 22:00 UTC
+    config = fakes.make_config()
+    # Three real places (ICRS): an hour either side of the meridian and one near it.
+    lst_deg = float(compute_sky(config, clock.now_utc().timestamp(), targets=()).last_hours) * 15.0
+    targets = tuple(Target(name=n, frame=Frame.ICRS, lon_deg=ra, lat_deg=40.0, ra_deg=ra, dec_deg=40.0)
+                    for n, ra in (("east", (lst_deg + 15) % 360), ("near", (lst_deg + 2) % 360),
+                                  ("west", (lst_deg - 25) % 360)))
+    config = replace(config, targets=targets)
+    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    task = await fakes.run_service_until(service, clock, clock.now_utc())
+    picked = [await service.cycle_target_in_use() for _ in range(4)]
+    assert picked == ["near", "east", "west", None]
+    assert service.snapshot().mount.in_use is None
+    await fakes.stop_service(service, task)
