@@ -502,8 +502,10 @@ class MountWatch:
             self.nearest = nearest_target(p.ra_hours, p.dec_deg, names, ras, decs,
                                           within_deg=self.config.mount.link.match_within_deg)
         name = self.nearest[0] if self.nearest and not p.slewing else None
-        if p.slewing:
-            return  # keep the target in use until the slew ends
+        if p.slewing or p.parked or p.tracking is not True:
+            # Slewing, parked, standing still or not saying: keep what was set (a driver that
+            # never reports tracking leaves the target in use to `siderod use`).
+            return
         if name != self.link_in_use:
             self.link_in_use = name
             if self._on_in_use is not None:

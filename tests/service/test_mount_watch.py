@@ -234,3 +234,34 @@ async def test_an_unacknowledged_mount_flip_repeats_by_the_insist_rule_until_ack
     await clock.advance(600.0)
     assert len([m for m, _ in recorder.sent[count:] if m.kind == "flip-due"]) == 0
     await _stop(task)
+
+
+async def test_the_link_names_the_target_in_use_only_while_tracking_on_it():
+    from siderod.common.model import Frame, Target
+    from siderod.plan.positions import compute_sky
+
+    clock = FakeClock(EVENING_UTC)
+    target = Target(name="Demo Cluster A", frame=Frame.ICRS, lon_deg=30.0, lat_deg=35.0, ra_deg=30.0,
+                    dec_deg=35.0)
+    config = replace(_config(), targets=(target,))
+    sky = compute_sky(config, clock.now_utc().timestamp())
+    changes = []
+
+    async def on_in_use(name, source):
+        changes.append((name, source))
+
+    watch = MountWatch(config, clock, _Recorder(clock), on_in_use=on_in_use)
+    task = asyncio.get_running_loop().create_task(watch.run())
+    watch.set_link(LinkState.LINKED, "test")
+    # Parked on the target's place, not tracking: nothing is in use.
+    watch.report(ra_hours=float(sky.ra_hours[0]), dec_deg=float(sky.dec_deg[0]) + 0.3, slewing=False)
+    watch.report(tracking=False, parked=True)
+    await clock.advance(1.0)
+    assert changes == [] and watch.nearest is not None
+    watch.report(parked=False, tracking=True)
+    await clock.advance(1.0)
+    assert changes == [("Demo Cluster A", "link")]
+    watch.report(ra_hours=float(sky.ra_hours[0]) + 1.0, dec_deg=30.0, slewing=False)  # moved off it
+    await clock.advance(1.0)
+    assert changes[-1] == (None, "link")
+    await _stop(task)
