@@ -222,3 +222,25 @@ def test_now_board_and_agenda_agree_on_below_the_limit_around_a_narrow_tree():
                 sky = compute_sky(config, float(t))
                 below_now = bool(sky.alt_deg[0] < sky.min_alt_deg[0])
                 assert below_now == below_agenda, (target.name, refraction, t)
+
+
+#: Per-target hour-angle marks vs ERFA: the observed hour angle from the erfa.atco13 chain at the
+#: listed instant (tests/helpers/horizon_reference.py) must be the mark; 0.05 s of time is the
+#: engine's measured agreement on culminations (<= 0.075 s incl. polar stars) for these stars.
+HOUR_ANGLE_MARK_SECONDS = 0.05
+
+
+def test_a_targets_own_hour_angle_marks_are_listed_for_it_only():
+    vega = _target("Vega", 279.2347, 38.7837, hour_angles_hours=(-1.0, 2.5))
+    config = _config(targets=(vega, TARGETS[0]))
+    agenda = compute_agenda(config, DEMO_NIGHT, kinds={EventKind.HOUR_ANGLE})
+    marks = {(e.target, e.mark_hours) for e in agenda.events}
+    # The global [events] hour_angles (-3 h) for both; -1 h and +2.5 h for Vega alone.
+    assert marks == {("Vega", -3.0), ("Vega", -1.0), ("Vega", 2.5), ("Betelgeuse", -3.0)}
+    star = ErfaStar(279.2347, 38.7837, ReferenceSite(SITE.latitude_deg, SITE.longitude_deg, SITE.elevation_m),
+                    DEMO_NIGHT.timestamp(), DEMO_NIGHT.timestamp() + 86400.0)
+    for event in agenda.events:
+        if event.target == "Vega":
+            ha_deg, _ = star.hadec(np.array([event.time_utc.timestamp()]))
+            off_hours = (ha_deg[0] / 15.0 - event.mark_hours + 12.0) % 24.0 - 12.0
+            assert abs(off_hours) * 3600.0 / 1.0027379 < HOUR_ANGLE_MARK_SECONDS

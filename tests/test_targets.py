@@ -171,3 +171,13 @@ def test_an_ambiguous_bare_ra_is_refused_with_file_line_key_and_both_readings():
 def test_a_declination_whose_sign_and_letter_disagree_is_refused():
     (error,) = _errors('[[target]]\nname = "A"\nra = "5h"\ndec = "-5 23 28 N"\n')
     assert error.key == "target[1].dec" and "disagree" in str(error)
+
+
+def test_a_targets_own_hour_angle_marks_are_read_sorted_and_checked():
+    head = '[[target]]\nname = "Vega"\nra = "18h36m56s"\ndec = 38.8\n'
+    (vega,) = parse_targets_toml(head + 'hour_angles = ["2h30m", "-1h", 0.5]\n', "t.toml")
+    assert vega.hour_angles_hours == (-1.0, 0.5, 2.5)
+    errors = _errors(head + 'hour_angles = ["-1h", "13h"]\n')
+    assert [(e.line, e.key) for e in errors] == [(5, "target[1].hour_angles[2]")]
+    errors = _errors(head + 'hour_angles = "-1h"\n')
+    assert errors[0].key == "target[1].hour_angles" and "a list like" in str(errors[0])

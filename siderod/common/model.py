@@ -202,6 +202,7 @@ class Target:
     catalogue_entry: str = ""  # the deep-sky catalogue entry the place came from ("NGC 224"); "" if typed
     body: str | None = None  # Frame.BODY: "mercury" ... "pluto", "moon"
     orbit: OrbitSpec | None = None  # Frame.ORBIT: the elements
+    hour_angles_hours: tuple[float, ...] = ()  # this target's own hour-angle marks (besides [events])
 
 
 @dataclass(frozen=True, slots=True)

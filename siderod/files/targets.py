@@ -44,7 +44,7 @@ _MOTION_KEYS = ("pm_ra", "pm_dec", "parallax", "rv", "epoch")
 #: Every key a ``[[target]]`` table may hold.
 TARGET_KEYS = frozenset(
     {"name", "catalogue", "frame", "equinox", "min_altitude", "alerts", "tags", *_COORD_KEYS, *_MOTION_KEYS,
-     "body", "elements", *ORBIT_KEYS}
+     "body", "elements", *ORBIT_KEYS, "hour_angles"}
 )
 #: ``body`` values: the planets, Pluto and the Moon (the Sun is never a target).
 BODY_CHOICES = ("mercury", "venus", "mars", "jupiter", "saturn", "uranus", "neptune", "pluto", "moon")
@@ -240,6 +240,7 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
                          what="a lowest usable altitude")
     alerts_enabled, lead = _alerts(problems, entry, prefix)
     tags = _tags(problems, entry, prefix)
+    marks = _hour_angles(problems, entry, prefix)
     if len(problems.errors) > before or coords is None or name is None or frame_text is None:
         return None
     frame = Frame.ECLIPTIC_OF_DATE if frame_text == "ecliptic" and equinox == "date" else Frame(frame_text)
@@ -249,8 +250,24 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
         name=name, frame=frame, lon_deg=lon_deg, lat_deg=lat_deg, ra_deg=ra_deg, dec_deg=dec_deg,
         ha_hours=ha_hours, min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled,
         source=f"{problems.path}:{problems.line_of(prefix)}", tags=tags,
-        catalogue_entry=looked_up[2] if looked_up else "", **motion,
+        catalogue_entry=looked_up[2] if looked_up else "", hour_angles_hours=marks, **motion,
     )
+
+
+def _hour_angles(problems: Problems, entry: dict[str, Any], prefix: str) -> tuple[float, ...]:
+    """This target's own hour-angle marks (``hour_angles = ["-1h", "0h30m"]``), hours, sorted."""
+    value = entry.get("hour_angles", [])
+    if not isinstance(value, list):
+        problems.add(f"{prefix}.hour_angles", show_value(value), 'a list like ["-1h", "+0h30m", 2.5]')
+        return ()
+    marks = []
+    for index, item in enumerate(value, start=1):
+        deg = parse_angle_value(problems, f"{prefix}.hour_angles[{index}]", item, kind="hour_angle",
+                                low=-12.0, high=12.0, what="an hour angle (bare numbers are hours)",
+                                scale=15.0, unit="hours")
+        if deg is not None:
+            marks.append(round(deg / 15.0, 12))
+    return tuple(sorted(set(marks)))
 
 
 def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, before: int) -> Target | None:
@@ -279,10 +296,12 @@ def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, befor
                          what="a lowest usable altitude")
     alerts_enabled, lead = _alerts(problems, entry, prefix)
     tags = _tags(problems, entry, prefix)
+    marks = _hour_angles(problems, entry, prefix)
     if len(problems.errors) > before or name is None or (body is None and orbit is None):
         return None
     source = f"{problems.path}:{problems.line_of(prefix)}"
-    extra = dict(min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled, tags=tags)
+    extra = dict(min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled, tags=tags,
+                 hour_angles_hours=marks)
     if orbit is not None:
         return orbit_target(name, orbit, source=source, **extra)
     return Target(name=name, frame=Frame.BODY, lon_deg=0.0, lat_deg=0.0, ra_deg=None, dec_deg=0.0,

@@ -328,7 +328,7 @@ def _target_pieces(config, observer, group, offset, start_unix, end_unix, wanted
             alt, az, _ = ev.target_altaz(track, last, lat, np.full(len(group), start_unix))
             up_at_start = alt >= limit.geometric_deg(az)
         maker = _EventMaker(track, last, lat, limit, names, parts, offset, _SunPath(piece_start, piece_end))
-        _hour_angle_kinds(config, maker, track, last, lat, piece_start, piece_end, wanted)
+        _hour_angle_kinds(config, maker, track, last, lat, piece_start, piece_end, wanted, group)
         # Rise and set: always computed (classification and dark intervals need them).
         flat = np.flatnonzero(~limit.depends_on_azimuth())
         profiled = np.flatnonzero(limit.depends_on_azimuth())
@@ -371,7 +371,7 @@ def _moving_track(config, observer, group, start_unix, end_unix):
     return ev.track_from_apparent(sample, places.unit_xyz, places.distance_au, geocentric_site_rho(observer))
 
 
-def _hour_angle_kinds(config, maker, track, last, lat, start, end, wanted):
+def _hour_angle_kinds(config, maker, track, last, lat, start, end, wanted, group=()):
     marks: list[tuple[EventKind, float, bool]] = []  # kind, hour angle, only while usable
     if EventKind.CULMINATION in wanted:
         marks.append((EventKind.CULMINATION, 0.0, False))
@@ -387,6 +387,17 @@ def _hour_angle_kinds(config, maker, track, last, lat, start, end, wanted):
     for kind, ha, only_usable in marks:
         idx, times, _ = ev.find_hour_angle_events(track, last, ha, start, end, latitude_deg=lat)
         maker.marks(idx, times, kind, ha, only_usable)
+    # Each target's own marks (`hour_angles` in its [[target]]), besides the global ones.
+    if EventKind.HOUR_ANGLE in wanted:
+        own: dict[float, list[int]] = {}
+        for j, target in enumerate(group):
+            for h in target.hour_angles_hours:
+                if h not in config.events.hour_angles_hours:
+                    own.setdefault(h, []).append(j)
+        for ha, members in sorted(own.items()):
+            idx, times, _ = ev.find_hour_angle_events(track, last, ha, start, end, latitude_deg=lat,
+                                                      index=np.array(members, dtype=np.intp))
+            maker.marks(idx, times, EventKind.HOUR_ANGLE, ha, False)
 
 
 class _EventMaker:
