@@ -163,7 +163,7 @@ def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]
 
     lines = ["doctor:"]
     versions = [f"siderod {__version__}", f"python {platform.python_version()}"]
-    for dist in ("numpy", "rich", "apscheduler", "desktop-notifier", "jplephem", "skyfield-data"):
+    for dist in ("numpy", "rich", "apscheduler", "desktop-notifier", "jplephem", "skyfield-data", "apprise"):
         try:
             versions.append(f"{dist} {metadata.version(dist)}")
         except metadata.PackageNotFoundError:

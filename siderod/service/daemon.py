@@ -278,6 +278,12 @@ class Service:
             finally:
                 self._notify("STOPPING=1")
                 log.info("siderod service stopping")
+                # An acknowledgement from a desktop button still running: it reached the ledger
+                # before its first await, so cancelling stops only its re-plan, which must not
+                # outlive the ledger.
+                for task in list(self._background):
+                    task.cancel()
+                await asyncio.gather(*self._background, return_exceptions=True)
 
     async def wait_ready(self) -> None:
         """Wait until the first plan is made (tests and the CLI's live view use this)."""
