@@ -135,6 +135,10 @@ async def test_pressing_acknowledge_on_the_desktop_stops_the_repeats(desktop, tm
     await clock.advance(120.0)  # the first repeat
     await _until(lambda: len(_records(record)) == 3, "the first repeat")
     assert _records(record)[-1]["summary"] == "M42: meridian flip due now (repeat 1)"
+    # A person presses seconds later; here, wait until the service has the notification's id
+    # back (the send returned), or the press could overtake the reply that names the notification.
+    await _until(lambda: any(d.ok and d.title.endswith("(repeat 1)")
+                             for d in service.snapshot().recent_deliveries), "the first repeat's send")
 
     server.stdin.write(f"press {ACKNOWLEDGE_BUTTON}\n".encode())
     server.stdin.flush()
