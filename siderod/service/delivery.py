@@ -12,6 +12,7 @@ bookkeeping lives in ``ChannelHealthBook`` so that a failed channel shows in ``s
 from __future__ import annotations
 
 import asyncio
+import contextlib
 import heapq
 import itertools
 import logging
@@ -74,6 +75,9 @@ class AlertMessage:
     event_utc: datetime | None = None
     due_utc: datetime | None = None
     lead_minutes: float | None = None
+    # When an earlier try of this alert on this channel began (this run or one before a restart),
+    # or None for a first try: a hook that may have run already can tell, and stay idempotent.
+    previous_try_utc: datetime | None = None
 
 
 def message_for_alert(alert: PlannedAlert, late_seconds: float, *, late_mark_seconds: float) -> AlertMessage:
@@ -146,6 +150,14 @@ class DesktopChannel:
     notification server. So each send is bounded by ``send_timeout_seconds``, success means
     ``on_dispatched`` fired, and after any failure the notifier is closed and rebuilt.
 
+    A send that times out may still reach the screen: the server got the call and will show it
+    once it runs again. So the channel notes which server (its unique bus name) timed out on
+    which alert key, and a retry of that key first asks: if the same server now answers, it has
+    worked through its queue and shown the earlier copy, so the retry succeeds without sending
+    again; if it still does not answer, the retry fails without queueing another copy; if another
+    server has taken its place, the old copy went with the old server and the alert is sent anew.
+    The user sees one notification per alert.
+
     A critical alert (one with an event kind) carries an Acknowledge button when
     ``on_acknowledge`` is given, and plays a sound unless ``critical_sound`` is False. The button
     works as long as this notifier stays connected: its press comes back as a D-Bus signal.
@@ -166,8 +178,31 @@ class DesktopChannel:
         self._critical_sound = critical_sound
         self.on_acknowledge = on_acknowledge  # the service sets it when it was built without one
         self._notifier: Any = None
+        self._probe_bus: Any = None
+        # alert key -> unique bus name of the server that timed out on it (it may show it later)
+        self._unconfirmed: dict[str, str] = {}
 
     async def send(self, message: AlertMessage) -> None:
+        owner = await self._server_owner()
+        earlier_owner = self._unconfirmed.pop(message.key, None)
+        if earlier_owner is not None and owner == earlier_owner:
+            if await self._server_answers(owner):
+                log.info("the notification server came back and showed %s from before; not sent again",
+                         message.key)
+                return
+            self._unconfirmed[message.key] = earlier_owner
+            raise ChannelFailed(
+                f"the notification server did not answer within {self._send_timeout_seconds:g} s, and still"
+                " does not (is it hung?); this alert waits in its queue, so it is not sent again"
+            )
+        try:
+            await self._send_now(message)
+        except _TimedOut as exc:
+            if owner is not None:
+                self._unconfirmed[message.key] = owner
+            raise ChannelFailed(str(exc)) from None
+
+    async def _send_now(self, message: AlertMessage) -> None:
         from desktop_notifier import Button, DesktopNotifier, Sound
         from desktop_notifier import Urgency as NotifierUrgency
 
@@ -201,7 +236,7 @@ class DesktopChannel:
             )
         except TimeoutError:
             await self._drop_notifier()
-            raise ChannelFailed(
+            raise _TimedOut(
                 f"the notification server did not answer within {self._send_timeout_seconds:g} s"
                 " (is it hung? the alert went to the other channels)"
             ) from None
@@ -221,6 +256,47 @@ class DesktopChannel:
 
     async def close(self) -> None:
         await self._drop_notifier()
+        bus, self._probe_bus = self._probe_bus, None
+        if bus is not None:
+            with contextlib.suppress(Exception):
+                bus.disconnect()
+
+    async def _probe(self, destination: str, path: str, interface: str, member: str,
+                     body: Sequence[Any] = (), signature: str = "") -> Any:
+        """One bounded D-Bus call on a connection of our own (None on any failure)."""
+        from dbus_fast import Message, MessageType
+        from dbus_fast.aio import MessageBus
+
+        try:
+            if self._probe_bus is None or not self._probe_bus.connected:
+                self._probe_bus = await asyncio.wait_for(MessageBus().connect(), _PROBE_TIMEOUT_SECONDS)
+            reply = await asyncio.wait_for(
+                self._probe_bus.call(Message(destination=destination, path=path, interface=interface,
+                                             member=member, signature=signature, body=list(body))),
+                _PROBE_TIMEOUT_SECONDS,
+            )
+        except Exception:  # no bus, a hung server, a broken connection: we only learn "no answer"
+            bus, self._probe_bus = self._probe_bus, None
+            if bus is not None:
+                with contextlib.suppress(Exception):
+                    bus.disconnect()
+            return None
+        if reply is None or reply.message_type != MessageType.METHOD_RETURN:
+            return None
+        return reply.body
+
+    async def _server_owner(self) -> str | None:
+        """The unique bus name of the process that owns the notification service now (the bus answers)."""
+        body = await self._probe("org.freedesktop.DBus", "/org/freedesktop/DBus", "org.freedesktop.DBus",
+                                 "GetNameOwner", ["org.freedesktop.Notifications"], "s")
+        return str(body[0]) if body else None
+
+    async def _server_answers(self, owner: str) -> bool:
+        """Does this server process answer now? It handles calls in order, so an answer means it
+        has handled every call queued before it, the timed-out Notify included."""
+        body = await self._probe(owner, "/org/freedesktop/Notifications", "org.freedesktop.Notifications",
+                                 "GetServerInformation")
+        return body is not None
 
     async def _drop_notifier(self) -> None:
         notifier, self._notifier = self._notifier, None
@@ -231,6 +307,14 @@ class DesktopChannel:
                 await asyncio.wait_for(bus.wait_for_disconnect(), 1.0)
             except Exception:  # a broken bus may fail to close; it is being thrown away anyway
                 log.debug("closing the old D-Bus connection failed", exc_info=True)
+
+
+class _TimedOut(Exception):
+    """A desktop send timed out (the server may still show it)."""
+
+
+# How long the desktop channel waits for the bus or the server to answer a check.
+_PROBE_TIMEOUT_SECONDS = 1.0
 
 
 # Placeholders the command hook may use in its argv, e.g. ["notify-phone", "{title}", "{body}"].
@@ -279,6 +363,17 @@ class CommandChannel:
                 ) from None
         return out
 
+    def env_for(self, message: AlertMessage) -> dict[str, str]:
+        """The hook's environment: ours, plus the alert key and when an earlier try began.
+
+        ``SIDEROD_ALERT_KEY`` is the alert's stable key; ``SIDEROD_PREVIOUS_TRY_UTC`` is empty on a
+        first try and otherwise the ISO time an earlier run of the hook for this alert began (it
+        may have finished, or been cut off by a stop or a crash of the service), so a hook that
+        must not act twice can check its own records for that key.
+        """
+        return dict(os.environ, SIDEROD_ALERT_KEY=message.key,
+                    SIDEROD_PREVIOUS_TRY_UTC=_iso(message.previous_try_utc))
+
     async def send(self, message: AlertMessage) -> None:
         argv = self.argv_for(message)
         try:
@@ -288,6 +383,7 @@ class CommandChannel:
                 stdout=asyncio.subprocess.PIPE,
                 stderr=asyncio.subprocess.STDOUT,
                 start_new_session=True,  # so a timeout can kill the command and its children
+                env=self.env_for(message),
             )
         except OSError as exc:
             raise ChannelFailed(f"cannot run {argv[0]!r}: {exc.strerror or exc}") from None
@@ -404,6 +500,7 @@ class ChannelWorker:
         self._idle.set()
         self._stopping = False
         self._in_flight: OwedDelivery | None = None
+        self._tried_utc: dict[str, datetime] = {}  # alert key -> when this run last began a try
 
     @property
     def name(self) -> str:
@@ -476,6 +573,9 @@ class ChannelWorker:
         late_seconds = max(0.0, (now_utc - item.due_utc).total_seconds()) if item.ledger else 0.0
         sent = mark_late(item.message, late_seconds, late_mark_seconds=self._late_mark_seconds)
         if item.ledger:
+            previous = self._tried_utc.get(item.message.key, item.started_utc)
+            sent = replace(sent, previous_try_utc=previous)
+            self._tried_utc[item.message.key] = now_utc
             self._sink.started(self.name, item, now_utc)
         self._idle.clear()
         error: str | None = None
@@ -510,6 +610,7 @@ class ChannelWorker:
             heapq.heapify(self._heap)
         if popped.ledger:
             self._keys.discard(popped.message.key)
+            self._tried_utc.pop(popped.message.key, None)
 
     async def _wait(self, seconds: float) -> None:
         """Sleep ``seconds`` (clock time); a stop request cuts it short."""

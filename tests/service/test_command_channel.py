@@ -59,3 +59,72 @@ def test_an_unknown_placeholder_is_refused_before_anything_runs():
     channel = CommandChannel(["echo", "{when}"])
     with pytest.raises(ChannelFailed, match="bad placeholder"):
         channel.argv_for(MESSAGE)
+
+
+# Writes the key and the previous-try time it was given, one line per run, and fails on its first
+# run for a key ending in "|fail-once" (so the worker retries it).
+ENV_RECORDER = (
+    "import os, sys; key = os.environ['SIDEROD_ALERT_KEY']; "
+    "seen = open(sys.argv[1]).read() if os.path.exists(sys.argv[1]) else ''; "
+    "open(sys.argv[1], 'a').write(key + ' ' + os.environ['SIDEROD_PREVIOUS_TRY_UTC'] + chr(10)); "
+    "sys.exit(1 if key.endswith('|fail-once') and key not in seen else 0)"
+)
+
+
+class _Sink:
+    def __init__(self):
+        self.outcomes = []
+
+    def started(self, channel, item, now_utc):
+        pass
+
+    def delivered(self, channel, item, sent, now_utc):
+        self.outcomes.append(("ok", item.message.key))
+
+    def failed(self, channel, item, sent, now_utc, error):
+        self.outcomes.append(("failed", item.message.key))
+
+    def gave_up(self, channel, item, now_utc):
+        self.outcomes.append(("gave up", item.message.key))
+
+
+@pytest.mark.slow
+async def test_the_hook_is_told_the_key_and_when_an_earlier_try_began(tmp_path):
+    """Issue 14 item 8: a hook cut off by a kill runs again after the restart; it can now tell."""
+    import asyncio
+    from dataclasses import replace
+    from datetime import timedelta
+
+    from siderod.common.clock import FakeClock
+    from siderod.service.delivery import ChannelWorker, OwedDelivery
+
+    out = tmp_path / "runs.txt"
+    clock = FakeClock(EVENT_UTC)
+    sink = _Sink()
+    channel = CommandChannel([sys.executable, "-c", ENV_RECORDER, str(out)], timeout_seconds=10.0)
+    worker = ChannelWorker(channel, clock, sink, late_mark_seconds=30.0, retry_seconds=5.0)
+    killed_run_utc = EVENT_UTC - timedelta(seconds=40)  # a run before a restart began this one
+    give_up = EVENT_UTC + timedelta(minutes=10)
+    worker.put(OwedDelivery(replace(MESSAGE, key="A|resumed"), EVENT_UTC, give_up,
+                            started_utc=killed_run_utc))
+    worker.put(OwedDelivery(replace(MESSAGE, key="B|fail-once"), EVENT_UTC, give_up))
+    worker.put(OwedDelivery(replace(MESSAGE, key="C|fresh"), EVENT_UTC, give_up))
+    task = asyncio.get_running_loop().create_task(worker.run())
+    try:
+        for _ in range(400):  # real processes: poll, bounded (each run is a Python start-up)
+            if len([o for o in sink.outcomes if o[0] == "ok"]) == 3:
+                break
+            await asyncio.sleep(0.05)
+            if not sink.outcomes or sink.outcomes[-1] == ("failed", "B|fail-once"):
+                await clock.advance(5.0)
+    finally:
+        task.cancel()
+        await asyncio.gather(task, return_exceptions=True)
+    assert out.exists(), sink.outcomes
+    lines = out.read_text().splitlines()
+    assert lines[0] == "A|resumed 2026-12-14T22:33:25Z"
+    assert lines[1] == "B|fail-once "  # a first try: nothing before it
+    assert lines[2].startswith("B|fail-once 2026-12-14T22:34:05Z")  # the retry names the first try
+    assert lines[3] == "C|fresh "
+    assert sorted(o for o in sink.outcomes if o[0] == "ok") == [("ok", "A|resumed"), ("ok", "B|fail-once"),
+                                                               ("ok", "C|fresh")]

@@ -109,8 +109,10 @@ def _records(path: Path) -> list[dict]:
     return [json.loads(line) for line in path.read_text().splitlines()] if path.exists() else []
 
 
-def _message(title="NGC 1001: meridian flip due now", urgency=Urgency.CRITICAL) -> AlertMessage:
-    return AlertMessage(key="k1", title=title, body="At 21:13:05 GMT (21:13:05 UTC)\nHour angle +0h05m00s",
+def _message(title="NGC 1001: meridian flip due now", urgency=Urgency.CRITICAL, key=None) -> AlertMessage:
+    # One key per title unless given: a key is one alert, and a repeat of a key is the same alert.
+    return AlertMessage(key=key or f"k|{title}", title=title,
+                        body="At 21:13:05 GMT (21:13:05 UTC)\nHour angle +0h05m00s",
                         urgency=urgency)
 
 
@@ -246,3 +248,52 @@ async def test_service_with_hung_server_keeps_delivering_elsewhere(notify_server
     desktop_health = {c.name: c for c in snapshot.channels}["desktop"]
     assert not desktop_health.healthy and "did not answer" in desktop_health.last_error
     assert any("channel desktop failed" in r.getMessage() for r in caplog.records)
+
+
+async def test_a_hung_server_shows_each_alert_once_however_often_it_is_retried(notify_server):
+    """Issue 14 item 7: a send that timed out had in fact reached the queue of the hung server; each
+    retry queued another copy, and the user saw the alert 3-4 times once the server came back."""
+    process, record = notify_server
+    channel = DesktopChannel(send_timeout_seconds=SEND_TIMEOUT_SECONDS)
+    flip = _message("M42: meridian flip due now", key="M42|flip-due|2026-12-14T21:13:05Z|0")
+    try:
+        await channel.send(_message("before the hang"))
+        process.send_signal(signal.SIGSTOP)
+        for _ in range(3):  # the first try and two retries, all while the server hangs
+            with pytest.raises(ChannelFailed, match="did not answer"):
+                await channel.send(flip)
+        process.send_signal(signal.SIGCONT)
+        await channel.send(flip)  # the retry after the hang: the server has shown the first copy
+        await channel.send(_message("after the hang"))
+    finally:
+        await channel.close()
+    summaries = [g["summary"] for g in _records(record)]
+    assert summaries == ["before the hang", flip.title, "after the hang"]
+
+
+async def test_a_replaced_server_gets_the_alert_the_hung_one_never_showed(notify_server, session_bus,
+                                                                          tmp_path):
+    """The other half of item 7: if the hung server is gone, its queued copy went with it; send again."""
+    process, record = notify_server
+    channel = DesktopChannel(send_timeout_seconds=SEND_TIMEOUT_SECONDS)
+    flip = _message("M42: meridian flip due now", key="M42|flip-due|2026-12-14T21:13:05Z|0")
+    second_record = tmp_path / "second.jsonl"
+    second = None
+    try:
+        process.send_signal(signal.SIGSTOP)
+        with pytest.raises(ChannelFailed, match="did not answer"):
+            await channel.send(flip)
+        process.kill()
+        process.wait()
+        second = subprocess.Popen([sys.executable, str(SERVER), str(second_record)], stdout=subprocess.PIPE,
+                                  stderr=subprocess.DEVNULL,
+                                  env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus))
+        assert _read_line(second, "second notify_server") == "ready"
+        await channel.send(flip)
+    finally:
+        await channel.close()
+        if second is not None:
+            second.kill()
+            second.wait()
+            second.stdout.close()
+    assert [g["summary"] for g in _records(second_record)] == [flip.title]
