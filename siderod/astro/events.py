@@ -292,13 +292,13 @@ def track_from_apparent(sample_unix, unit_xyz, distance_au, site_rho, *,
 def moving_sample_unix(start_unix: float, end_unix: float):
     """Instants at which to evaluate moving bodies for :func:`track_from_apparent` (POSIX seconds).
 
-    Chebyshev nodes with the ends on the span (padded by two minutes): 5 nodes plus 3 per day,
+    Chebyshev nodes with the ends on the span (padded by two minutes): 4 nodes plus 3 per day,
     which fits the Moon's geocentric place over a day to a few milliarcseconds (its longitude's
     largest periodic terms have periods of two weeks and longer).
     """
     lo = float(start_unix) - _CANDIDATE_MARGIN_SECONDS
     hi = float(end_unix) + _CANDIDATE_MARGIN_SECONDS
-    n = 5 + 3 * int(math.ceil((hi - lo) / 86400.0))
+    n = 4 + int(math.ceil(3.0 * (hi - lo) / 86400.0))
     k = np.arange(n)
     nodes = np.cos((2 * k + 1) * np.pi / (2 * n))[::-1]
     nodes = nodes / nodes[-1]

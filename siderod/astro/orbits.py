@@ -308,9 +308,10 @@ def _perifocal(elements: OrbitalElements, tt_whole, tt_frac):
         hi = np.where((f > 0.0) | (lost & (chi > 0.0)), chi, hi)
         with np.errstate(invalid="ignore"):
             new = chi - f / r
-        outside = lost | ~(new > lo) | ~(new < hi)
+        outside = lost | ~(new >= lo) | ~(new <= hi)  # (a converged step may land on a bound)
         new = np.where(outside, 0.5 * (lo + hi), new)
-        if np.all(np.abs(new - chi) <= 1e-15 * np.maximum(np.abs(chi), 1e-3)):
+        # 1e-12 in chi is about 1e-12 au (15 cm) in position: far below anything observable.
+        if np.all(np.abs(new - chi) <= 1e-12 * (np.abs(chi) + 1e-8)):
             chi = new
             break
         chi = new

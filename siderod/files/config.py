@@ -36,7 +36,6 @@ from siderod.common.model import (
     ViewSettings,
 )
 from siderod.files.elements import DEFAULT_MAX_ELEMENT_AGE_DAYS, collect_elements_file
-from siderod.files.ephemeris import load_ephemeris
 from siderod.files.paths import resolve_paths
 from siderod.files.pushurl import check_url
 from siderod.files.targets import (
@@ -222,7 +221,7 @@ def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None
     return Config(path=path, site=site, targets=targets, target_files=target_files, time=time_settings,
                   events=events, mount=mount, alerts=alerts, notify=notify, view=view,
                   max_element_age_days=max_age if max_age is not None else DEFAULT_MAX_ELEMENT_AGE_DAYS,
-                  ephemeris=load_ephemeris)
+                  ephemeris=_load_ephemeris)
 
 
 def find_iers_finals() -> Path | None:
@@ -823,6 +822,13 @@ def _targets(problems: Problems, data: Mapping[str, Any], base_dir: str,
 
 # ---------------------------------------------------------------------------------------------
 # helpers
+
+
+def _load_ephemeris():
+    """The process's planetary ephemeris; imported here so star-only runs never load the module."""
+    from siderod.files.ephemeris import load_ephemeris
+
+    return load_ephemeris()
 
 _IERS_CACHE: dict[tuple[str, int, int], Any] = {}
 

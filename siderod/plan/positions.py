@@ -13,7 +13,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from siderod.astro.angles import wrap_hours_12, wrap_hours_24
-from siderod.astro.ephemeris import observe_apparent
 from siderod.astro.events import AltitudeLimit
 from siderod.astro.places import Observer, Stars, hadec_to_altaz, observe, stars_from_radec
 from siderod.astro.refraction import airmass, refraction_from_true_deg
@@ -21,7 +20,6 @@ from siderod.astro.sidereal import last_hours, lmst_hours
 from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun, sun_separation_deg
 from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Frame, Site, Target
-from siderod.plan.moving import ephemeris_for, is_moving, moving_places
 
 __all__ = [
     "TWILIGHT_LIMITS_DEG",
@@ -124,12 +122,16 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
     last = float(last_hours(instants, site.longitude_deg))
 
     fixed = np.array([t.frame is Frame.HADEC for t in targets], dtype=bool)
-    moving = np.array([is_moving(t) for t in targets], dtype=bool)
+    moving = np.array([t.frame in (Frame.BODY, Frame.ORBIT) for t in targets], dtype=bool)
     sky_index = np.flatnonzero(~fixed & ~moving)
     magnitude = np.full(n, np.nan)
     distance_au = np.full(n, np.nan)
     moving_index = np.flatnonzero(moving)
     if moving_index.size:
+        # Imported only when a target moves, so star-only runs stay as quick to start as before.
+        from siderod.astro.ephemeris import observe_apparent
+        from siderod.plan.moving import ephemeris_for, moving_places
+
         ephemeris = ephemeris_for(config)
         places = moving_places(ephemeris, [targets[i] for i in moving_index],
                                instants_from_unix(np.array([[float(unix_seconds)]]),
