@@ -49,7 +49,8 @@ def star_targets(count: int) -> tuple[Target, ...]:
     ra = rng.uniform(0, 360, count)
     dec = np.degrees(np.arcsin(rng.uniform(-1, 1, count)))
     return tuple(Target(name=f"star {k}", frame=Frame.ICRS, lon_deg=float(r), lat_deg=float(d),
-                        ra_deg=float(r), dec_deg=float(d)) for k, (r, d) in enumerate(zip(ra, dec, strict=True)))
+                        ra_deg=float(r), dec_deg=float(d))
+                 for k, (r, d) in enumerate(zip(ra, dec, strict=True)))
 
 
 def timed(config, runs: int) -> tuple[float, int]:
@@ -73,7 +74,8 @@ def main() -> None:
     t_moving, n_moving = timed(moving, runs)
     t_stars, n_stars = timed(stars, runs)
     t_sky, _ = timed(replace(demo, targets=()), runs)
-    print(f"8 planets + Moon + 1,000 minor bodies: {t_moving * 1000:7.1f} ms, {n_moving} events (aim <= 300 ms)")
+    print(f"8 planets + Moon + 1,000 minor bodies: {t_moving * 1000:7.1f} ms, {n_moving} events "
+          "(aim <= 300 ms)")
     print(f"{len(stars.targets)} fixed stars (previous path, reference): {t_stars * 1000:7.1f} ms, "
           f"{n_stars} events")
     print(f"Sun, Moon and twilight alone (in both): {t_sky * 1000:7.1f} ms")
