@@ -89,10 +89,11 @@ def run(args: argparse.Namespace) -> int:
         return 1
 
     if args.ics:
-        text = format_ics(agenda, config, stamp_utc=start_utc)
+        from siderod.cli.ics import write_ics
+
         try:
-            with open(args.ics, "w", encoding="utf-8", newline="") as handle:
-                handle.write(text)
+            with open(args.ics, "wb") as handle:
+                write_ics(agenda, config, handle, stamp_utc=start_utc)
         except OSError as exc:
             print(f"siderod agenda: --ics: cannot write {args.ics!r}: {exc.strerror or exc}", file=sys.stderr)
             return 1
@@ -206,131 +207,159 @@ def _byte_writer(out):
     return lambda data: out.write(data.decode())
 
 
-def _describe(event) -> str:
-    """A short note for the table and the calendar: the kind-specific value."""
-    from siderod.common.model import EventKind
-
-    kind = event.kind
-    if kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION):
-        return "usable" if event.usable else "below its limit"
-    if kind in (EventKind.HOUR_ANGLE, EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT):
-        text = f"HA {_signed(event.mark_hours)} h"
-        if kind is EventKind.TRACKING_LIMIT:
-            text += " - check the mount's own limits"
-        return text
-    if kind in (EventKind.MOONRISE, EventKind.MOONSET) and event.moon_illuminated_fraction is not None:
-        return f"{event.moon_illuminated_fraction * 100:.0f}% lit"
-    if event.threshold_deg is not None:
-        return f"through {event.threshold_deg:.1f}°"
-    return ""
-
-
-def _table_note(event) -> str:
-    """The note column: what the other columns do not already say."""
-    from siderod.common.model import EventKind
-
-    if event.kind is EventKind.HOUR_ANGLE:
-        return ""  # the HA column is the mark
-    if event.kind is EventKind.FLIP_DUE:
-        return "flip the mount"
-    if event.kind is EventKind.TRACKING_LIMIT:
-        return "at mount limit"
-    return _describe(event)
-
-
 def _print_table(agenda, config) -> None:
-    import os
+    """The agenda as a table on standard output.
+
+    Piped or redirected, every row is printed (formatted as numpy columns: 800,000 events take
+    about as long as ``--json``). On a terminal only the rows that fit the window are shown, with
+    a line saying how many more there are and how to see them.
+    """
+    import shutil
+
+    out = sys.stdout
+    total = len(agenda.table)
+    rows = None
+    if out.isatty():
+        height = shutil.get_terminal_size().lines
+        rows = max(1, height - _TABLE_FRAME_LINES)
+    shown = total if rows is None or total <= rows else rows
+    write = _byte_writer(out)
+    hours = (agenda.end_utc - agenda.start_utc).total_seconds() / 3600
+    write(f"{config.site.name}: {agenda.start_utc:%Y-%m-%d %H:%M} UTC + {hours:g} h\n\n".encode())
+    for block in format_table_rows(agenda.table.take(slice(0, shown)), config.site.timezone):
+        write(block)
+    if not total:
+        write(b"No events in this window (check --target/--kind).\n")
+    elif shown < total:
+        write(f"... and {total - shown} more events: pipe the output (| less) or use --json to see "
+              "them all\n".encode())
+    rare = [(n, _CLASSES[c]) for n, c in zip(agenda.target_names, agenda.class_codes.tolist(), strict=True)
+            if c]
+    if rare:
+        write(("Whole window: " + "; ".join(f"{n} {c}" for n, c in sorted(rare)) + "\n").encode())
+
+
+#: Lines of a terminal the table leaves for the title, header, rule and trailing notes.
+_TABLE_FRAME_LINES = 7
+_HEADERS = (("Local", "<"), ("UTC", "<"), ("Event", "<"), ("Target", "<"), ("Alt°", ">"), ("Az°", ">"),
+            ("HA h", ">"), ("Note", "<"))
+_WEEKDAYS = (b"Mon", b"Tue", b"Wed", b"Thu", b"Fri", b"Sat", b"Sun")
+
+
+def format_table_rows(table, timezone: str):
+    """Header, rule and one line per event, from the event columns: an iterator of UTF-8 blocks.
+
+    Columns: local time (weekday, HH:MM, zone), UTC, kind, target, altitude, azimuth, hour angle
+    and a note with what the other columns do not say. Rows are formatted as numpy byte columns in
+    blocks; every column but the last is padded with spaces to a width fixed for the whole table.
+    """
+    import numpy as np
+
+    from siderod.cli import textcols as tc
+    from siderod.plan.table import KINDS
+
+    present = np.unique(table.target[table.target >= 0]) if len(table) else np.zeros(0, dtype=np.int64)
+    name_width = max((len(table.names[j]) for j in present.tolist()), default=0)
+    target_texts = [b""] * (len(table.names) + 1)
+    for j in present.tolist():
+        target_texts[j] = table.names[j].ljust(name_width).encode()
+    targets = tc.text_table(target_texts, pad=tc.SPACE)
+    kind_width = max((len(KINDS[k].value) for k in np.unique(table.kind).tolist()), default=0)
+    kinds = tc.text_table([k.value.ljust(kind_width).encode() for k in KINDS], pad=tc.SPACE)
+
+    def span(values, decimals, plus=False):
+        finite = values[np.isfinite(values)]
+        ends = np.array([finite.min(), finite.max()]) if finite.size else np.zeros(0)
+        return tc.decimal_column(ends, decimals, plus=plus, null=b"").shape[1]
+
+    az = np.round(table.azimuth_deg, 1) % 360.0
+    numbers = [span(table.altitude_deg, 1), span(az, 1), span(table.hour_angle_hours, 2, plus=True)]
+    local_width = 10 + max((len(a) for a in _zone_names(table, timezone)), default=0)
+    widths = [max(len(h), w) for (h, _), w in zip(
+        _HEADERS, [local_width, 8, kind_width, name_width, *numbers, 0], strict=True)]
+    head = "  ".join(h.ljust(w) if a == "<" else h.rjust(w)
+                     for (h, a), w in zip(_HEADERS, widths, strict=True))
+    yield (" " + head.rstrip() + "\n" + " " + "─" * (sum(widths[:-1]) + 2 * (len(widths) - 1) + 16)
+           + "\n").encode()
+    for first in range(0, len(table), _TABLE_BLOCK):
+        part = table.take(slice(first, first + _TABLE_BLOCK))
+        yield _table_block(part, timezone, widths, targets, kinds, az[first:first + _TABLE_BLOCK])
+
+
+_TABLE_BLOCK = 65536
+
+
+def _zone_names(table, timezone):
     from zoneinfo import ZoneInfo
 
-    from rich import box
-    from rich.console import Console
-    from rich.table import Table
+    from siderod.cli import textcols as tc
 
-    zone = ZoneInfo(config.site.timezone)
-    hours = (agenda.end_utc - agenda.start_utc).total_seconds() / 3600
-    title = f"{config.site.name}: {agenda.start_utc:%Y-%m-%d %H:%M} UTC + {hours:g} h"
-    table = Table(box=box.SIMPLE_HEAD, pad_edge=False, title=title, title_justify="left")
-    for name, justify in (("Local", "left"), ("UTC", "left"), ("Event", "left"), ("Target", "left"),
-                          ("Alt°", "right"), ("Az°", "right"), ("HA h", "right"), ("Note", "left")):
-        table.add_column(name, justify=justify, no_wrap=name != "Note")
-    for e in agenda.events:
-        local = e.time_utc.astimezone(zone)
-        table.add_row(
-            local.strftime("%a %H:%M %Z"), e.time_utc.strftime("%H:%M:%S"), e.kind.value, e.target or "",
-            f"{e.altitude_deg:.1f}", f"{round(e.azimuth_deg, 1) % 360.0:.1f}",
-            "" if e.hour_angle_hours is None else _signed(e.hour_angle_hours), _table_note(e))
-    console = Console()
-    if not console.is_terminal and "COLUMNS" not in os.environ:
-        console = Console(width=120)  # pipes and files get every column unless told otherwise
-    console.print(table)
-    if not agenda.events:
-        console.print("No events in this window (check --target/--kind).")
-    rare = {name: c for name, c in agenda.classification.items() if c != "normal"}
-    if rare:
-        console.print("Whole window: " + "; ".join(f"{n} {c}" for n, c in sorted(rare.items())))
+    return tc.local_time_parts(table.time_microseconds() // 1_000_000, ZoneInfo(timezone))[2]
 
 
-# ---------------------------------------------------------------------------------------------
-# iCalendar (RFC 5545), written by hand: no runtime dependency
+def _table_block(part, timezone, widths, targets, kinds, az) -> bytes:
+    from zoneinfo import ZoneInfo
+
+    import numpy as np
+
+    from siderod.cli import textcols as tc
+    from siderod.common.model import EventKind
+    from siderod.plan.table import KIND_CODES
+
+    n = len(part)
+    sp = tc.SPACE
+    c = tc.constant
+    secs = part.time_microseconds() // 1_000_000
+    offsets, abbr, abbr_names = tc.local_time_parts(secs, ZoneInfo(timezone))
+    local = secs + offsets
+    fields = tc.civil_fields(local)
+    zones = tc.text_table([a.encode() for a in abbr_names] or [b""], pad=sp)
+    local_col = np.concatenate([tc.text_table(_WEEKDAYS)[fields["weekday"]], c(b" ", n),
+                                tc.hhmmss_column(local - (local // 86400) * 86400, seconds=False), c(b" ", n),
+                                zones[abbr]], axis=1)
+    ha = tc.decimal_column(part.hour_angle_hours, 2, pad=sp, plus=True, null=b"")
+    columns = [local_col, tc.hhmmss_column(secs - (secs // 86400) * 86400), kinds[part.kind],
+               targets[part.target], tc.decimal_column(part.altitude_deg, 1, pad=sp),
+               tc.decimal_column(az, 1, pad=sp), ha]
+    # The note (last column, NUL-padded so a row ends where its text does): a fixed text by kind,
+    # "through 30.0°" or "28% lit", each after the two-space column gap.
+    texts = [b"", b"  usable", b"  below its limit", b"  flip the mount", b"  at mount limit"]
+    code = np.zeros(n, dtype=np.int64)
+    culm = np.isin(part.kind, [KIND_CODES[EventKind.CULMINATION], KIND_CODES[EventKind.LOWER_CULMINATION]])
+    code[culm] = np.where(part.usable[culm] == 1, 1, 2)
+    code[part.kind == KIND_CODES[EventKind.FLIP_DUE]] = 3
+    code[part.kind == KIND_CODES[EventKind.TRACKING_LIMIT]] = 4
+    through = ~np.isnan(part.threshold_deg) & (code == 0)
+    moon = ~np.isnan(part.moon_illuminated_fraction) & (code == 0) & ~through
+    choice = np.where(through, 1, np.where(moon, 2, 0))
+    through_col = np.concatenate([c(b"  through ", n), tc.decimal_column(part.threshold_deg, 1),
+                                  c("°".encode(), n)], axis=1)
+    moon_col = np.concatenate([c(b"  ", n), tc.decimal_column(part.moon_illuminated_fraction * 100.0, 0),
+                               c(b"% lit", n)], axis=1)
+    note = tc.pick(choice, [tc.text_table(texts)[code], through_col, moon_col])
+    parts = [c(b" ", n)]
+    for (_, align), w, col in zip(_HEADERS, widths, columns, strict=False):
+        col = np.where(col == tc.NUL, np.uint8(sp), col)
+        extra = c(b" " * (w - col.shape[1]), n)
+        parts += [col, extra] if align == "<" else [extra, col]
+        parts.append(c(b"  ", n))
+    parts[-1] = note
+    parts.append(c(b"\n", n))
+    return tc.join_rows(parts)
 
 
 def format_ics(agenda, config, *, stamp_utc) -> str:
-    """The agenda as an RFC 5545 VCALENDAR: one zero-length VEVENT per event, times in UTC.
-
-    UIDs are stable across runs (target, kind and time to the second), so re-importing updates
-    rather than duplicates. Lines use CRLF and are folded at 75 octets (RFC 5545 §3.1).
+    """The agenda as an RFC 5545 calendar, written by the ``icalendar`` library (see ``siderod.cli.ics``).
 
     Args:
         agenda: the computed agenda.
         config: for the site name.
         stamp_utc: DTSTAMP for every event (the window start keeps the output reproducible).
-
-    Returns:
-        str: the calendar text.
     """
-    stamp = stamp_utc.strftime("%Y%m%dT%H%M%SZ")
-    lines = ["BEGIN:VCALENDAR", "VERSION:2.0", "PRODID:-//siderod//agenda//EN", "CALSCALE:GREGORIAN",
-             "METHOD:PUBLISH", "X-WR-CALNAME:" + _ics_text(f"siderod: {config.site.name}")]
-    for e in agenda.events:
-        when = e.time_utc.strftime("%Y%m%dT%H%M%SZ")
-        who = e.target or ("Moon" if e.kind.value.startswith("moon") else "Sun")
-        uid = f"{when}-{e.kind.value}-{_uid_safe(who)}@siderod"
-        summary = f"{who}: {e.kind.value}"
-        detail = (f"{e.kind.value} of {who} at {e.time_utc:%Y-%m-%d %H:%M:%S} UTC; altitude "
-                  f"{e.altitude_deg:.1f} deg, azimuth {round(e.azimuth_deg, 1) % 360.0:.1f} deg")
-        note = _describe(e)
-        if note:
-            detail += f"; {note}"
-        lines += ["BEGIN:VEVENT", f"UID:{uid}", f"DTSTAMP:{stamp}", f"DTSTART:{when}", f"DTEND:{when}",
-                  "SUMMARY:" + _ics_text(summary), "DESCRIPTION:" + _ics_text(detail),
-                  "LOCATION:" + _ics_text(config.site.name), "TRANSP:TRANSPARENT", "END:VEVENT"]
-    lines.append("END:VCALENDAR")
-    return "".join(_fold(line) + "\r\n" for line in lines)
+    import io
 
+    from siderod.cli.ics import write_ics
 
-def _ics_text(value: str) -> str:
-    """Escape a TEXT value (RFC 5545 §3.3.11)."""
-    return (value.replace("\\", "\\\\").replace(";", "\\;").replace(",", "\\,").replace("\n", "\\n"))
-
-
-def _uid_safe(value: str) -> str:
-    return "".join(ch if ch.isalnum() or ch in "-_." else "-" for ch in value)
-
-
-def _fold(line: str) -> str:
-    """Fold a content line at 75 octets, never inside a UTF-8 sequence (RFC 5545 §3.1)."""
-    out, current, size = [], [], 0
-    for ch in line:
-        width = len(ch.encode("utf-8"))
-        if size + width > 75:
-            out.append("".join(current))
-            current, size = [" "], 1
-        current.append(ch)
-        size += width
-    out.append("".join(current))
-    return "\r\n".join(out)
-
-
-def _signed(hours: float) -> str:
-    # Round before formatting so a culmination a microsecond early does not print as "-0.00".
-    return f"{round(hours, 2) + 0.0:+.2f}"
+    buffer = io.BytesIO()
+    write_ics(agenda, config, buffer, stamp_utc=stamp_utc)
+    return buffer.getvalue().decode("utf-8")

@@ -21,6 +21,7 @@ __all__ = [
     "NUL",
     "SPACE",
     "civil_fields",
+    "compact",
     "constant",
     "decimal_column",
     "digits_column",
@@ -227,3 +228,58 @@ def _time_of_day_table(sep: bytes) -> np.ndarray:
                                 digits_column(s % 60, 2)], axis=1)
         _TIME_TABLES[sep] = table
     return table
+
+
+def local_time_parts(unix_seconds, zone) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    """UTC offsets and zone abbreviations of many instants, with one zone look-up per hour.
+
+    Args:
+        unix_seconds: (N,) int64 whole POSIX seconds.
+        zone: a ``tzinfo`` (e.g. ``zoneinfo.ZoneInfo``).
+
+    Returns:
+        ``(offset_seconds, abbreviation_index, abbreviations)``: per instant its UTC offset and the
+        index of its abbreviation (``"GMT"``, ``"BST"``) in the list. Hours in which the offset
+        changes are looked up instant by instant.
+    """
+    from datetime import UTC, datetime
+
+    secs = np.asarray(unix_seconds, dtype=np.int64).reshape(-1)
+    offsets = np.zeros(secs.size, dtype=np.int64)
+    which = np.zeros(secs.size, dtype=np.int64)
+    names: dict[str, int] = {}
+    if secs.size == 0:
+        return offsets, which, []
+
+    def look(second: int) -> tuple[int, int]:
+        local = datetime.fromtimestamp(second, UTC).astimezone(zone)
+        name = local.tzname() or ""
+        return int(local.utcoffset().total_seconds()), names.setdefault(name, len(names))
+
+    hours = secs // 3600
+    first = int(hours.min())
+    span = int(hours.max()) - first + 1
+    hour_offset = np.zeros(span, dtype=np.int64)
+    hour_name = np.zeros(span, dtype=np.int64)
+    mixed = np.zeros(span, dtype=bool)
+    for h in range(span):
+        start = look((first + h) * 3600)
+        end = look((first + h) * 3600 + 3599)
+        hour_offset[h], hour_name[h] = start
+        mixed[h] = start != end
+    slot = hours - first
+    offsets[:] = hour_offset[slot]
+    which[:] = hour_name[slot]
+    for i in np.flatnonzero(mixed[slot]).tolist():  # a change of offset inside this hour
+        offsets[i], which[i] = look(int(secs[i]))
+    return offsets, which, list(names)
+
+
+def compact(columns: np.ndarray) -> np.ndarray:
+    """Each row's bytes moved to the left in order, NUL padding to the right; ``(N, width)``."""
+    keep = columns != NUL
+    dest = np.cumsum(keep, axis=1) - 1
+    out = np.zeros_like(columns)
+    rows = np.nonzero(keep)[0]
+    out[rows, dest[keep]] = columns[keep]
+    return out
