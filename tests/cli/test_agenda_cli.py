@@ -131,3 +131,32 @@ def test_hours_cap_is_the_configuration_cap(tmp_path):
     parse_config(text.format(MAX_HOURS), str(tmp_path / "c.toml"))
     with pytest.raises(ConfigErrors):
         parse_config(text.format(MAX_HOURS + 0.5), str(tmp_path / "c.toml"))
+
+
+def _event_lines(text):
+    return [line for line in text.splitlines() if line.startswith(" ") and line[1:4] in
+            ("Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun")]
+
+
+def test_table_on_a_terminal_shows_what_fits_and_says_how_many_more(capsys, monkeypatch):
+    # issue 13 item 6: a table for a terminal shows what fits (the rest is one line away with a
+    # pipe), instead of rendering every row of a big agenda.
+    import os
+    import shutil
+
+    monkeypatch.setattr(shutil, "get_terminal_size", lambda *a, **k: os.terminal_size((100, 24)))
+    monkeypatch.setattr("sys.stdout.isatty", lambda: True)
+    assert main(["agenda", "--from", DEMO_FROM, "--hours", "48"]) == 0
+    out = capsys.readouterr().out
+    shown = _event_lines(out)
+    assert 0 < len(shown) <= 24 and len(out.splitlines()) <= 24
+    assert "more events" in out and "| less" in out
+
+
+def test_piped_table_has_every_event(capsys):
+    assert main(["agenda", "--from", DEMO_FROM, "--hours", "48", "--json"]) == 0
+    events = json.loads(capsys.readouterr().out)["events"]
+    assert main(["agenda", "--from", DEMO_FROM, "--hours", "48"]) == 0
+    shown = _event_lines(capsys.readouterr().out)
+    assert len(shown) == len(events)
+    assert [line.split()[4] for line in shown] == [e["kind"] for e in events]  # after local time and UTC
