@@ -154,6 +154,7 @@ def _date_of_jd(jd: float) -> str:
 
 def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
     import os
+    import shutil
     from datetime import datetime
     from zoneinfo import ZoneInfo
 
@@ -179,6 +180,24 @@ def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
     console.print(f"Sun    {sky.sun_alt_deg:+.1f}° ({sky.twilight})     "
                   f"Moon {sky.moon_alt_deg:+.1f}°, {sky.moon_illuminated_fraction:.0%} lit")
 
+    if not sys.stdout.isatty():
+        # Piped or redirected: every row, formatted as columns (10,000 targets in a fraction of a
+        # second; a rich table of them took seconds).
+        console.file.flush()
+        sys.stdout.flush()
+        out = getattr(sys.stdout, "buffer", None)
+        block = format_target_rows(sky, data)
+        if out is not None:
+            out.write(block)
+            out.flush()
+        else:
+            sys.stdout.write(block.decode())
+        if any(t["elements_old"] for t in data["targets"]):
+            print(f"orbital elements older than {config.max_element_age_days:g} days: two-body motion drifts "
+                  "from the real orbit as the planets pull; fetch fresh elements")
+        return
+    # A terminal: the rows that fit, the rest counted (pipe the output to see every row).
+    room = max(1, shutil.get_terminal_size().lines - _NOW_FRAME_LINES)
     table = Table(box=box.SIMPLE_HEAD, padding=(0, 1), pad_edge=False)
     table.add_column("Target", overflow="fold", min_width=14)
     for heading in ("HA", "Dec", "Alt", "Az", "Airmass"):
@@ -190,7 +209,7 @@ def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
         table.add_column("Elements", overflow="fold", min_width=10)
     table.add_column("", overflow="fold", min_width=8)
     sun_up = sky.sun_alt_deg > 0.0
-    for i, name in enumerate(sky.names):
+    for i, name in enumerate(sky.names[:room]):
         alt = float(sky.alt_deg[i])
         airmass = float(sky.airmass[i])
         usable = alt >= float(sky.min_alt_deg[i])
@@ -220,7 +239,83 @@ def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
             style=None if usable else "dim",
         )
     console.print(table)
+    if len(sky.names) > room:
+        console.print(f"... and {len(sky.names) - room} more targets: pipe the output (| less) or use --json "
+                      "to see them all")
     console.print("[dim]dim rows: below the lowest usable altitude (horizon profile or min_altitude)[/]")
     if any(t["elements_old"] for t in data["targets"]):
         console.print(f"[yellow]orbital elements older than {config.max_element_age_days:g} days: two-body "
                       "motion drifts from the real orbit as the planets pull; fetch fresh elements[/]")
+
+
+#: Lines of a terminal `now` leaves for its heading, the table's header and the notes below it.
+_NOW_FRAME_LINES = 13
+
+
+def format_target_rows(sky: Any, data: dict[str, Any]) -> bytes:
+    """The target table as plain text, every row, formatted as numpy columns (UTF-8 bytes).
+
+    The columns of the terminal table; a row below its lowest usable altitude (dimmed on a terminal)
+    says "below limit" in words.
+    """
+    import numpy as np
+
+    from siderod.cli import textcols as tc
+
+    n = len(sky.names)
+    sp = tc.SPACE
+    c = tc.constant
+    names = [str(name) for name in sky.names]
+    name_width = max(14, max(map(len, names), default=0))
+    alt = np.asarray(sky.alt_deg, dtype=float)
+    airmass = np.asarray(sky.airmass, dtype=float)
+    fixed = np.array([frame == "hadec" for frame in sky.frames], dtype=bool)
+    state = np.where(fixed, 2, np.where(np.asarray(sky.rising, dtype=bool), 0, 1))
+    usable = alt >= np.asarray(sky.min_alt_deg, dtype=float)
+    sun_up = sky.sun_alt_deg > 0.0
+    near = sun_up & (np.asarray(sky.sun_separation_deg, dtype=float) < SUN_CAUTION_DEG)
+    notes = [b"rising", b"setting", b"fixed"]
+    note = tc.text_table(notes)[state]
+    tail = tc.text_table([b"", b", below limit", b" NEAR SUN", b", below limit NEAR SUN"])[
+        (~usable).astype(np.int64) + 2 * near.astype(np.int64)]
+    columns = [
+        (b"Target", "<", tc.text_table([t.ljust(name_width).encode() for t in names] or [b""], pad=sp)),
+        (b"HA", ">", tc.sexagesimal_column(sky.ha_hours, units=(b"h", b"m", b"s"))),
+        (b"Dec", ">", tc.sexagesimal_column(sky.dec_deg, units=("°".encode(), b"'", b'"'))),
+        (b"Alt", ">", np.concatenate([tc.decimal_column(alt, 1, pad=sp, plus=True), c("°".encode(), n)],
+                                     axis=1)),
+        (b"Az", ">", np.concatenate([tc.decimal_column(sky.az_deg, 1, pad=sp), c("°".encode(), n)], axis=1)),
+        (b"Airmass", ">", tc.decimal_column(airmass, 2, pad=sp, null="—".encode())),
+    ]
+    with_elements = any(t["elements_epoch"] is not None for t in data["targets"])
+    if with_elements:
+        mags = np.array([np.nan if t["magnitude"] is None else t["magnitude"] for t in data["targets"]])
+        epochs = [((t["elements_epoch"] or "") + (f" {t['elements_age_days']:.0f} d old" if t["elements_old"]
+                                                     else "")).encode() for t in data["targets"]]
+        columns += [(b"Mag", ">", tc.decimal_column(mags, 1, pad=sp, null=b"")),
+                    (b"Elements", "<", tc.text_table(epochs, pad=sp))]
+    # Display widths: "°" and "—" are one column wide but two or three bytes.
+    head, rule_width, parts = [], 0, [c(b" ", n)]
+    for title, align, col in columns:
+        col = col if len(col) == n else np.zeros((n, 1), dtype=np.uint8)
+        col = np.where(col == tc.NUL, np.uint8(sp), col)
+        shown = _display_widths(col)
+        width = max(len(title), int(shown.max()) if n else 0)
+        # Spaces to fill each row to the column's width on screen; NUL (dropped) for the rest.
+        room = np.arange(max(1, width - int(shown.min() if n else 0)))
+        fill = np.where(room[None, :] < (width - shown)[:, None], np.uint8(sp), np.uint8(tc.NUL))
+        parts += [col, fill] if align == "<" else [fill, col]
+        parts.append(c(b"  ", n))
+        head.append(title.decode().ljust(width) if align == "<" else title.decode().rjust(width))
+        rule_width += width + 2
+    parts += [note, tail, c(b"\n", n)]
+    top = " " + "  ".join(head) + "\n " + "─" * (rule_width + 7) + "\n"
+    body = tc.join_rows(parts) if n else b""
+    return top.encode() + body
+
+
+def _display_widths(col):
+    """Terminal columns of each row of a UTF-8 byte column: continuation bytes take none."""
+    import numpy as np
+
+    return col.shape[1] - np.count_nonzero((col & 0xC0) == 0x80, axis=1)

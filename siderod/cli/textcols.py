@@ -30,6 +30,7 @@ __all__ = [
     "join_rows",
     "json_strings",
     "pick",
+    "sexagesimal_column",
     "text_column",
     "text_table",
 ]
@@ -283,3 +284,24 @@ def compact(columns: np.ndarray) -> np.ndarray:
     rows = np.nonzero(keep)[0]
     out[rows, dest[keep]] = columns[keep]
     return out
+
+
+def sexagesimal_column(values, *, units: tuple[bytes, bytes, bytes], whole_digits: int = 2,
+                       sign: bool = True) -> np.ndarray:
+    """Values as ``+DDuMMuSSu`` (e.g. ``+05h35m17s``, ``-05°23'28"``), seconds rounded once, as
+    :func:`siderod.astro.angles.format_hms`/``format_dms`` with ``decimals=0``; ``(N, width)``.
+
+    The sign is ``-`` for negative values (``+`` otherwise, when ``sign``); the whole part has at
+    least ``whole_digits`` digits.
+    """
+    x = np.asarray(values, dtype=float).reshape(-1)
+    n = x.size
+    total = np.rint(np.abs(x) * 3600.0).astype(np.int64)
+    whole, rest = total // 3600, total % 3600
+    digits = max(whole_digits, len(str(int(whole.max()))) if n else whole_digits)
+    parts = []
+    if sign:
+        parts.append(text_table([b"+", b"-"])[(x < 0).astype(np.int64)])
+    parts += [digits_column(whole, digits), constant(units[0], n), digits_column(rest // 60, 2),
+              constant(units[1], n), digits_column(rest % 60, 2), constant(units[2], n)]
+    return np.concatenate(parts, axis=1)

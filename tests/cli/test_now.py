@@ -120,3 +120,31 @@ def test_end_to_end_json_in_a_fresh_process_imports_only_what_it_needs(demo_conf
                             check=False)
     assert result.returncode == 0, result.stderr
     assert result.stdout.strip() == "[]"
+
+
+def test_piped_table_has_every_target_with_its_values_and_says_below_limit_in_words(capsys, demo_config_path):
+    # issue 13 item 6: piped output prints every row, fast (formatted as columns), and says in
+    # words what a terminal shows by dimming. Reference: the --json values, rounded as displayed.
+    data, _ = _now_json(capsys, "--config", str(demo_config_path))
+    assert main(["now", "--at", AT, "--config", str(demo_config_path)]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    rule = next(i for i, line in enumerate(lines) if line.startswith(" ─"))
+    rows = lines[rule + 1:rule + 1 + len(data["targets"])]
+    for target, row in zip(data["targets"], rows, strict=True):
+        assert row[1:].startswith(target["name"])
+        assert f"{target['altitude_deg']:+.1f}°" in row
+        assert f"{target['azimuth_deg']:.1f}°" in row
+        below = target["altitude_deg"] < target["min_altitude_deg"]
+        assert row.endswith("below limit") == below, row
+    assert not any("dim rows" in line for line in lines)
+
+
+def test_table_on_a_terminal_shows_what_fits(capsys, demo_config_path, monkeypatch):
+    import os
+    import shutil
+
+    monkeypatch.setattr(shutil, "get_terminal_size", lambda *a, **k: os.terminal_size((100, 20)))
+    monkeypatch.setattr("sys.stdout.isatty", lambda: True)
+    assert main(["now", "--at", AT, "--config", str(demo_config_path)]) == 0
+    out = capsys.readouterr().out
+    assert "more targets" in out and len(out.splitlines()) <= 20
