@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import asyncio
 import contextlib
+import itertools
 import logging
 import os
 import signal
@@ -85,6 +86,9 @@ SERVICE_MESSAGE_WAIT_SECONDS = 5.0
 LEDGER_RETRY_SECONDS = 10.0
 # Closed ledger rows older than this are forgotten at start-up.
 LEDGER_KEEP_DAYS = 14
+# The scheduler holds the alerts due within twice the re-plan interval, and at least this long
+# (every re-plan refreshes them; see Service._schedule).
+SCHEDULE_MIN_MINUTES = 180.0
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
 STOP_WAIT_SECONDS = 15.0
 
@@ -178,6 +182,7 @@ class Service:
         self._worker_failed: asyncio.Future[None] | None = None
         self._background: set[asyncio.Task[Any]] = set()
         self._plan_lock = asyncio.Lock()
+        self._reload_lock = asyncio.Lock()  # one reload at a time, now that loading awaits
         self._stop = asyncio.Event()
         self._reload_asked = asyncio.Event()
         self._ready = asyncio.Event()
@@ -343,8 +348,10 @@ class Service:
         if config is None or self._ledger is None:
             raise SiderodError("the service has not started yet")
         # Only what is still ahead: an alert past due is being delivered or swept, never "next".
-        ahead = (a for a in self._plan.values() if a.due_utc >= now_utc)
-        upcoming = sorted(ahead, key=lambda a: (a.due_utc, a.key))
+        # The plan dict is in due order (see _compute_plan) and only loses entries, so its first
+        # items are the next alerts: no sort of a 100,000-alert plan on every status.
+        ahead = itertools.dropwhile(lambda a: a.due_utc < now_utc, self._plan.values())
+        upcoming = list(itertools.islice(ahead, SNAPSHOT_ALERTS))
         try:
             counts = self._ledger.counts()
             recent = self._ledger.recent_deliveries(SNAPSHOT_ALERTS)
@@ -359,7 +366,7 @@ class Service:
             dut1_seconds=config.time.dut1_seconds,
             dut1_source=config.time.dut1_source,
             clock_health=self.clock_health,
-            next_alerts=tuple(upcoming[:SNAPSHOT_ALERTS]),
+            next_alerts=tuple(upcoming),
             recent_deliveries=recent,
             channels=self._channel_snapshot(),
             muted=dict(self._mutes),
@@ -459,9 +466,15 @@ class Service:
         Returns:
             True if the new configuration is in use.
         """
+        async with self._reload_lock:
+            return await self._reload(reason, always_announce=always_announce)
+
+    async def _reload(self, reason: str, *, always_announce: bool) -> bool:
         self._notify("RELOADING=1")
         try:
-            new_config = self._config_loader()
+            # Off the loop: reading a big target file takes seconds, and meanwhile `status`,
+            # the scheduler and the watchdog pings must keep going.
+            new_config = await self._off_loop(self._config_loader)
         except (SiderodError, OSError) as exc:
             text = str(exc)
             repeat = text == self.config_error
@@ -521,33 +534,25 @@ class Service:
             lookback = grace + timedelta(minutes=repeat_lookback_minutes(config))
             start_utc = now_utc - lookback
             hours = config.alerts.horizon_hours + lookback.total_seconds() / 3600.0
-            agenda = await self._compute_agenda(config, start_utc, hours)
             self._mutes = self._ledger.mutes(now_utc)
-            planned = plan_alerts(
-                agenda, config, muted=self._mutes, now_utc=now_utc, sun_altitude_deg=self._sun_altitude
-            )
-            planned += plan_repeats(
-                agenda, config, muted=self._mutes, now_utc=now_utc, sun_altitude_deg=self._sun_altitude,
-                acknowledged=self._ledger.acknowledged(),
-            )
+            planned, near_sun = await self._compute_plan(config, start_utc, hours, dict(self._mutes),
+                                                         now_utc, self._ledger.acknowledged())
             planned = self._mount.adjust(planned, config)  # the target in use
             # Only critical alerts insist: a repeat made less urgent by the target in use goes.
             planned = tuple(a for a in planned if a.repeat_number == 0 or a.urgency is Urgency.CRITICAL)
-            near_sun = sorted({e.target for e in getattr(agenda, "events", ())
-                               if too_near_the_sun(e, config.alerts)})
             if near_sun:
                 log.info("no alerts for %s: closer than %g° to the Sun ([alerts] sun_separation_min)",
                          ", ".join(near_sun), config.alerts.sun_separation_min_deg)
             if self._catch_up_floor_utc is not None:
                 planned = tuple(a for a in planned if a.due_utc >= self._catch_up_floor_utc)
             now_utc = self._clock.now_utc()  # the agenda may have taken a while
-            open_keys = self._write("plan", lambda: ledger.replace_planned(planned, now_utc), journal=False)
-            if open_keys is None:  # not written: plan from what the ledger holds and what we sent since
+            written = await self._write_plan(planned, now_utc)
+            if written is None:  # not written: plan from what the ledger holds and what we sent since
                 settled = self._ledger.settled_keys(planned) | self._claimed_unwritten
-                open_keys = frozenset(a.key for a in planned if a.key not in settled)
-            self._plan = {a.key: a for a in planned if a.key in open_keys}
-            due_now = [a for a in self._plan.values() if a.due_utc <= now_utc]
-            self._scheduler.replace_jobs([a for a in self._plan.values() if a.due_utc > now_utc])
+                written = _index_plan(planned, frozenset(a.key for a in planned if a.key not in settled))
+            self._plan, self._repeats_by_event = written
+            due_now = list(itertools.takewhile(lambda a: a.due_utc <= now_utc, self._plan.values()))
+            self._schedule(now_utc)
             for alert in sorted(due_now, key=lambda a: (a.due_utc, a.key)):
                 self._queue.put_nowait(alert.key)
             if self._missed_titles:
@@ -585,7 +590,7 @@ class Service:
         if late_seconds < 0:
             # Only after a backward clock step can a timer fire before the wall-clock due time.
             log.info("alert %s fired %.1f s early (clock stepped back?); rescheduled", key, -late_seconds)
-            self._scheduler.replace_jobs([a for a in self._plan.values() if a.due_utc > now_utc])
+            self._schedule(now_utc)
             return
         grace_seconds = self.config.alerts.grace_minutes * 60.0
         if late_seconds > grace_seconds:
@@ -950,7 +955,49 @@ class Service:
         assert self.config is not None
         return APSchedulerAdapter(self._on_due)
 
-    async def _compute_agenda(self, config: Config, start_utc: datetime, hours: float) -> Any:
+    async def _write_plan(self, planned: Sequence[PlannedAlert], now_utc: datetime) -> _IndexedPlan | None:
+        """Write the plan to the ledger; return its open alerts by key (in the planner's order) and
+        the keys of the repeats planned for each event, or None if the ledger could not be written.
+
+        With offloading this runs on a worker thread with its own connection: tens of thousands
+        of rows must not stall the loop. The write is one short transaction (see
+        ``Ledger.replace_planned``), so a claim or a delivery record from the loop waits at most
+        that long for SQLite's write lock, and sees the old plan or the new one, never half.
+        """
+        assert self._ledger is not None
+        ledger = self._ledger
+        try:
+            if not self._offload_planning or self._ledger_path == ":memory:":
+                return _index_plan(planned, ledger.replace_planned(planned, now_utc))
+
+            def write() -> _IndexedPlan:
+                with Ledger(self._ledger_path) as own:
+                    return _index_plan(planned, own.replace_planned(planned, now_utc))
+
+            return await asyncio.to_thread(write)
+        except sqlite3.Error as exc:  # a full or failing disk: the next re-plan writes it again
+            self._ledger_failed("plan", exc)
+            return None
+
+    def _schedule(self, now_utc: datetime) -> None:
+        """Hand the scheduler the open alerts due from now until well past the next re-plan.
+
+        The plan reaches ``horizon_hours`` ahead (36 h), but every re-plan hands the scheduler a
+        fresh set, so only alerts due before the next one are needed: a 20,000-target plan then
+        costs the loop a few thousand APScheduler jobs instead of a hundred thousand.
+        """
+        assert self.config is not None and self._scheduler is not None
+        lookahead = timedelta(minutes=max(2.0 * self.config.alerts.replan_minutes, SCHEDULE_MIN_MINUTES))
+        until_utc = now_utc + lookahead
+        upcoming = itertools.dropwhile(lambda a: a.due_utc <= now_utc, self._plan.values())
+        self._scheduler.replace_jobs(list(itertools.takewhile(lambda a: a.due_utc <= until_utc, upcoming)))
+
+    async def _compute_plan(
+        self, config: Config, start_utc: datetime, hours: float, muted: Mapping[str, datetime | None],
+        now_utc: datetime, acknowledged: Any,
+    ) -> tuple[tuple[PlannedAlert, ...], list[str]]:
+        """The alerts planned from the agenda, in due order, and the targets held back for being
+        near the Sun; computed off the loop when offloading."""
         source = self._agenda_source
         if source is None:
             from siderod.plan.agenda import compute_agenda
@@ -958,9 +1005,26 @@ class Service:
             def source(c: Config, s: datetime, h: float) -> Any:
                 return compute_agenda(c, s, h)
 
+        sun_altitude = self._sun_altitude
+
+        def plan() -> tuple[tuple[PlannedAlert, ...], list[str]]:
+            agenda = source(config, start_utc, hours)
+            common = {"muted": muted, "now_utc": now_utc, "sun_altitude_deg": sun_altitude}
+            planned = plan_alerts(agenda, config, **common)
+            planned += plan_repeats(agenda, config, acknowledged=acknowledged, **common)
+            near_sun = sorted({e.target for e in getattr(agenda, "events", ())
+                               if too_near_the_sun(e, config.alerts)})
+            # Due order (then key): snapshot(), replan() and _schedule() take prefixes of it.
+            return tuple(sorted(planned, key=lambda a: (a.due_utc, a.key))), near_sun
+
+        return await self._off_loop(plan)
+
+    async def _off_loop(self, work: Callable[[], Any]) -> Any:
+        # A worker thread keeps the loop answering (status, alerts, watchdog) during slow work.
+        # Tests under FakeClock run it inline so that simulated time cannot run on meanwhile.
         if self._offload_planning:
-            return await asyncio.to_thread(source, config, start_utc, hours)
-        return source(config, start_utc, hours)
+            return await asyncio.to_thread(work)
+        return work()
 
     def _known_target(self, name: Any) -> str:
         assert self.config is not None
@@ -987,6 +1051,20 @@ class Service:
         except ImportError:
             return
         notify(message, self._env)
+
+
+_IndexedPlan = tuple[dict[str, PlannedAlert], dict[str, tuple[str, ...]]]
+
+
+def _index_plan(planned: Sequence[PlannedAlert], open_keys: frozenset[str]) -> _IndexedPlan:
+    """The open alerts by key, keeping the planner's due order (snapshot() relies on it), and
+    the keys of each event's planned repeats (so status never scans the plan)."""
+    plan = {a.key: a for a in planned if a.key in open_keys}
+    repeats: dict[str, list[str]] = {}
+    for alert in plan.values():
+        if alert.repeat_number > 0:
+            repeats.setdefault(event_id(alert.key), []).append(alert.key)
+    return plan, {e: tuple(keys) for e, keys in repeats.items()}
 
 
 _SUMMARY = "\x00summary"  # queue marker: send the missed-alert summary once the queue drains

@@ -149,7 +149,9 @@ class Ledger:
 
     def settled_keys(self, alerts: Iterable[PlannedAlert]) -> frozenset[str]:
         """The keys of ``alerts`` the ledger already holds as sent, delivered or missed (read only)."""
-        return frozenset(a.key for a in alerts if self._settled_match(a) is not None)
+        rows = [_plan_row(a, 0.0) for a in alerts]
+        settled = self._settled_near(rows)
+        return frozenset(row[0] for row in rows if _matches_settled(row, settled))
 
     def __enter__(self) -> Ledger:
         return self
@@ -174,15 +176,22 @@ class Ledger:
         Returns:
             The keys of ``alerts`` that are open (state ``planned``): the ones to schedule.
         """
-        open_keys: set[str] = set()
+        now_unix = now_utc.timestamp()
+        alerts = list(alerts)
+        rows = [_plan_row(alert, now_unix) for alert in alerts]
+        # One transaction, a handful of statements: the settled rows near the plan's events are
+        # read once and matched in memory (a query per alert took seconds for 30,000 alerts, and
+        # a service writing from a worker thread holds SQLite's write lock for all of it).
         with self._transaction():
+            settled = self._settled_near(rows)
+            fresh = [row for row in rows if not _matches_settled(row, settled)]
             self._db.execute("DELETE FROM alerts WHERE state = 'planned'")
-            for alert in alerts:
-                if self._settled_match(alert) is not None:
-                    continue
-                self._insert_planned(alert, now_utc)
-                open_keys.add(alert.key)
-        return frozenset(open_keys)
+            self._db.executemany(
+                "INSERT INTO alerts(key, target, kind, event_unix, lead_minutes, due_unix, title, body,"
+                " urgency, state, updated_unix) VALUES (?,?,?,?,?,?,?,?,?, 'planned', ?)",
+                fresh,
+            )
+        return frozenset(row[0] for row in fresh)
 
     def sweep_missed(self, before_utc: datetime, now_utc: datetime) -> tuple[LedgerRow, ...]:
         """Mark every still-planned alert due before ``before_utc`` as missed and return them."""
@@ -516,21 +525,23 @@ class Ledger:
         )
         return cursor.rowcount == 1
 
-    def _settled_match(self, alert: PlannedAlert) -> str | None:
-        t = alert.event.time_utc.timestamp()
-        row = self._db.execute(
-            "SELECT key FROM alerts WHERE (key = ? OR (target = ? AND kind = ? AND lead_minutes = ?"
-            " AND event_unix BETWEEN ? AND ?)) AND state != 'planned' LIMIT 1",
-            (
-                alert.key,
-                alert.event.target or SKY_TARGET_NAME,
-                alert.event.kind.value,
-                alert.lead_minutes,
-                t - EVENT_MATCH_SECONDS,
-                t + EVENT_MATCH_SECONDS,
-            ),
-        ).fetchone()
-        return None if row is None else str(row[0])
+    def _settled_near(self, rows: list[tuple]) -> _Settled:
+        """Keys and (target, kind, lead) -> event times of settled rows near the given events."""
+        keys: set[str] = set()
+        times: dict[tuple[str, str, float], list[float]] = {}
+        if not rows:
+            return keys, times
+        low = min(row[3] for row in rows) - EVENT_MATCH_SECONDS
+        high = max(row[3] for row in rows) + EVENT_MATCH_SECONDS
+        cursor = self._db.execute(
+            "SELECT key, target, kind, lead_minutes, event_unix FROM alerts"
+            " WHERE state != 'planned' AND event_unix BETWEEN ? AND ?",
+            (low, high),
+        )
+        for key, target, kind, lead, event_unix in cursor:
+            keys.add(key)
+            times.setdefault((target, kind, lead), []).append(event_unix)
+        return keys, times
 
     def _rows(self, where: str, params: tuple[object, ...]) -> tuple[LedgerRow, ...]:
         cursor = self._db.execute(
@@ -539,6 +550,35 @@ class Ledger:
             params,
         )
         return tuple(_row(r) for r in cursor.fetchall())
+
+
+_Settled = tuple[set[str], dict[tuple[str, str, float], list[float]]]
+
+
+def _plan_row(alert: PlannedAlert, now_unix: float) -> tuple:
+    """The ``alerts`` columns of a planned alert, in _insert_planned's order."""
+    return (
+        alert.key,
+        alert.event.target or SKY_TARGET_NAME,
+        alert.event.kind.value,
+        alert.event.time_utc.timestamp(),
+        alert.lead_minutes,
+        alert.due_utc.timestamp(),
+        alert.title,
+        alert.body,
+        alert.urgency.value,
+        now_unix,
+    )
+
+
+def _matches_settled(row: tuple, settled: _Settled) -> bool:
+    # The same alert as a settled row: the same key, or the same target, kind and lead with the
+    # event within EVENT_MATCH_SECONDS (two computations of one event).
+    keys, times = settled
+    if row[0] in keys:
+        return True
+    near = times.get((row[1], row[2], row[4]))
+    return near is not None and any(abs(t - row[3]) <= EVENT_MATCH_SECONDS for t in near)
 
 
 def _row(r: tuple) -> LedgerRow:

@@ -91,24 +91,39 @@ class APSchedulerAdapter:
             await asyncio.sleep(0)  # AsyncIOScheduler.shutdown takes effect on the next loop turn
 
     def replace_jobs(self, planned: Sequence[PlannedAlert]) -> None:
+        from apscheduler.schedulers.base import STATE_RUNNING
         from apscheduler.triggers.date import DateTrigger
 
         wanted = {a.key: a for a in planned}
-        for key in self._keys - wanted.keys():
-            self.remove(key)
-        for key, alert in wanted.items():
-            _require_aware(alert.due_utc)
-            # replace_existing turns a second add of the same id into an update: re-planning is
-            # idempotent instead of raising ConflictingIdError or running the alert twice.
-            self._scheduler.add_job(
-                self._fire,
-                trigger=DateTrigger(run_date=alert.due_utc.astimezone(UTC), timezone=UTC),
-                args=(key,),
-                id=key,
-                name=alert.title,
-                replace_existing=True,
-            )
-        self._keys = set(wanted)
+        # Every add_job on a running AsyncIOScheduler queues one wakeup through
+        # call_soon_threadsafe. Thousands of them fill the loop's self-pipe (a signal arriving
+        # then is lost) and keep the loop busy, so the scheduler is paused for the batch and
+        # woken once. A key fixes its due time (it holds the event time and the lead), so a job
+        # still pending under the same key is left as it is.
+        pause = self._scheduler.running and self._scheduler.state == STATE_RUNNING
+        if pause:
+            self._scheduler.pause()
+        try:
+            for key in self._keys - wanted.keys():
+                self.remove(key)
+            for key, alert in wanted.items():
+                _require_aware(alert.due_utc)
+                if key in self._keys:
+                    continue
+                # replace_existing turns a second add of the same id into an update: re-planning
+                # is idempotent instead of raising ConflictingIdError or running the alert twice.
+                self._scheduler.add_job(
+                    self._fire,
+                    trigger=DateTrigger(run_date=alert.due_utc.astimezone(UTC), timezone=UTC),
+                    args=(key,),
+                    id=key,
+                    name=alert.title,
+                    replace_existing=True,
+                )
+                self._keys.add(key)
+        finally:
+            if pause:
+                self._scheduler.resume()
 
     def remove(self, key: str) -> None:
         from apscheduler.jobstores.base import JobLookupError

@@ -54,3 +54,31 @@ async def test_apscheduler_adapter_ids_are_keys_and_replanning_replaces():
     finally:
         await adapter.shutdown()
     assert not adapter.apscheduler.running
+
+
+#: Alerts in one re-plan: 5,000 targets give about 30,000 (see test_reload_responsive.py).
+BIG_PLAN_ALERTS = 1_000
+
+
+async def test_a_big_replan_wakes_apscheduler_once_and_leaves_unchanged_jobs_alone():
+    # Each add_job on a running AsyncIOScheduler queued one wakeup through call_soon_threadsafe:
+    # thousands of them filled the loop's self-pipe, so a SIGHUP arriving then was lost, and the
+    # loop spent its time in the queued wakeups instead of answering `status`.
+    adapter = APSchedulerAdapter(lambda key: None, misfire_grace_seconds=600)
+    await adapter.start()
+    wakeups: list[int] = []
+    real_wakeup = adapter.apscheduler.wakeup
+    adapter.apscheduler.wakeup = lambda: (wakeups.append(1), real_wakeup())[1]  # a counting spy
+    try:
+        now = datetime.now(UTC)
+        plan = [_alert(60 + i / 100, f"T{i:05d}", now) for i in range(BIG_PLAN_ALERTS)]
+        adapter.replace_jobs(plan)
+        assert len(wakeups) <= 1
+        assert len(adapter.apscheduler.get_jobs()) == BIG_PLAN_ALERTS
+        first_job = adapter.apscheduler.get_job(plan[0].key)
+        wakeups.clear()
+        adapter.replace_jobs(plan)  # the same plan: nothing to add, nothing to wake
+        assert adapter.apscheduler.get_job(plan[0].key) is first_job
+        assert len(wakeups) <= 1
+    finally:
+        await adapter.shutdown()
