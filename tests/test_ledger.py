@@ -100,3 +100,26 @@ def test_recent_deliveries_newest_first_and_prune(tmp_path):
         assert [d.key for d in ledger.recent_deliveries(2)] == ["k2", "k1"]
         ledger.prune(NOW + timedelta(minutes=1, seconds=30))
         assert [d.key for d in ledger.recent_deliveries()] == ["k2"]
+
+
+def test_given_events_is_one_answer_for_every_event_and_agrees_with_given(tmp_path):
+    # status asks about every event with repeats; a query per event took seconds at scale.
+    from datetime import UTC, datetime
+
+    from siderod.common.model import Event, EventKind, PlannedAlert, Urgency
+    from siderod.plan.planner import alert_key
+    from siderod.service.ledger import Ledger
+
+    now = datetime(2026, 12, 14, 18, 0, tzinfo=UTC)
+    alerts = []
+    for minute, target in ((10, "M31"), (20, "M42")):
+        event = Event(now.replace(minute=minute), EventKind.FLIP_DUE, target, 60.0, 180.0)
+        alerts.append(PlannedAlert(key=alert_key(event, 0), event=event, lead_minutes=0.0,
+                                   due_utc=event.time_utc, urgency=Urgency.CRITICAL, title=target, body=""))
+    with Ledger(tmp_path / "l.sqlite3") as ledger:
+        ledger.replace_planned(alerts, now)
+        assert ledger.claim(alerts[0].key, now, ["log"])
+        given = ledger.given_events()
+        ids = [a.key.rpartition("|")[0] for a in alerts]
+        assert given == {ids[0]}
+        assert [ledger.given(i) for i in ids] == [True, False]

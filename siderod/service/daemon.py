@@ -174,6 +174,8 @@ class Service:
         self._channels: list[Channel] = []
         self._health = ChannelHealthBook()
         self._plan: dict[str, PlannedAlert] = {}  # open alerts of the current plan, by key
+        # event id -> keys of its planned repeats, made with each plan (status must not scan it)
+        self._repeats_by_event: dict[str, tuple[str, ...]] = {}
         self._mutes: dict[str, datetime | None] = {}
         self._queue: asyncio.Queue[str] = asyncio.Queue()
         self._missed_titles: list[str] = []
@@ -382,8 +384,10 @@ class Service:
     def awaiting_acknowledgement(self) -> tuple[str, ...]:
         """Event ids of critical alerts that have been given and will repeat until acknowledged."""
         assert self._ledger is not None
-        pending = {event_id(a.key) for a in self._plan.values() if a.repeat_number > 0}
-        given = {e for e in pending if self._ledger.given(e)}
+        # Events whose repeats are still in the plan (not all delivered or dropped since).
+        candidates = self._repeats_by_event.keys() & self._ledger.given_events()
+        plan = self._plan
+        given = {e for e in candidates if any(k in plan for k in self._repeats_by_event[e])}
         return tuple(sorted(given | set(self._mount.awaiting())))  # and the linked mount's own
 
     async def acknowledge(self, *, target: str | None = None, events: Sequence[str] | None = None,
@@ -1039,10 +1043,11 @@ class Service:
 
     def _status_line(self) -> str:
         now_utc = self._clock.now_utc()
-        ahead = [a for a in self._plan.values() if a.due_utc >= now_utc]
-        if not ahead:
+        # The plan is in due order (see _compute_plan): called after every alert, this must not
+        # scan a 100,000-alert plan.
+        first = next(itertools.dropwhile(lambda a: a.due_utc < now_utc, self._plan.values()), None)
+        if first is None:
             return "STATUS=no alerts planned"
-        first = min(ahead, key=lambda a: (a.due_utc, a.key))
         return f"STATUS=next alert {first.due_utc.strftime('%H:%M:%S')} UTC: {first.title}"
 
     def _notify(self, message: str) -> None:

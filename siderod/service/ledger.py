@@ -494,6 +494,15 @@ class Ledger:
         ).fetchone()
         return row is not None
 
+    def given_events(self) -> frozenset[str]:
+        """The events (``target|kind|time``) any of whose alerts has been claimed for sending.
+
+        One query for all of them: ``status`` asks about every event with repeats planned, and
+        a query per event (each a full scan) took seconds with thousands of targets.
+        """
+        rows = self._db.execute("SELECT key FROM alerts WHERE state IN ('sending', 'delivered')")
+        return frozenset(key.rpartition("|")[0] for (key,) in rows)
+
     # -- helpers ---------------------------------------------------------------------------
     def _transaction(self, *, nested_ok: bool = False) -> contextlib.AbstractContextManager[None]:
         if nested_ok and self._db.in_transaction:
