@@ -36,7 +36,7 @@ def run(args: argparse.Namespace) -> int:
     path: Any = explicit
     try:
         path, how = find_config(explicit, env)
-        config = load_config(explicit, env)
+        config = load_config(explicit, env, check_push=True)
     except ConfigErrors as exc:
         config = None
         count = len(exc.errors)

@@ -60,7 +60,9 @@ def run(args: argparse.Namespace) -> int:
     explicit = getattr(args, "config", None)
     service = Service(
         # DUT1 from IERS tables is taken for the moment of loading, on the service's clock.
-        lambda: load_config(explicit, dict(os.environ), at_unix=clock.now_utc().timestamp()),
+        # check_push: read and check every push URL and refuse secrets others can read.
+        lambda: load_config(explicit, dict(os.environ), at_unix=clock.now_utc().timestamp(),
+                            check_push=True),
         clock,
         None,
         None,

@@ -104,6 +104,8 @@ _PUSH_KEYS = ("name", "url", "secret", "env", "min_urgency", "kinds", "timeout")
 _PUSH_URL_KEYS = ("url", "secret", "env")
 # Destination names appear in status, on the board and in the ledger as "push:<name>".
 _PUSH_NAME_RE = re.compile(r"[A-Za-z0-9][A-Za-z0-9_.-]{0,39}")
+# What a destination's URL shows when the load did not read it (see parse_config's check_push).
+_UNCHECKED_URL = "(not read by this command)"
 # Permission bits that let another user read (or rewrite) a file holding secrets.
 _OTHERS_MODE_BITS = 0o077
 _VIEW_KEYS = ("refresh_hz",)
@@ -145,7 +147,7 @@ def demo_config_path() -> Path:
 
 
 def load_config(explicit: str | None = None, env: Mapping[str, str] | None = None, *,
-                at_unix: float | None = None) -> Config:
+                at_unix: float | None = None, check_push: bool = False) -> Config:
     """Find, read and check the configuration and its target files.
 
     Args:
@@ -163,14 +165,15 @@ def load_config(explicit: str | None = None, env: Mapping[str, str] | None = Non
     env = os.environ if env is None else env
     path, how = find_config(explicit, env)
     text = _read_config_text(path)
-    config = parse_config(text, str(path), at_unix=at_unix, env=env)
+    config = parse_config(text, str(path), at_unix=at_unix, env=env, check_push=check_push)
     if how == FOUND_BUNDLED_DEMO:
         config = replace(config, is_demo=True)
     return config
 
 
 def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None = None,
-                 at_unix: float | None = None, env: Mapping[str, str] | None = None) -> Config:
+                 at_unix: float | None = None, env: Mapping[str, str] | None = None,
+                 check_push: bool = False) -> Config:
     """Check a configuration text and the target files it names.
 
     Args:
@@ -180,6 +183,10 @@ def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None
             reading when None. Tests pass a dict lookup.
         at_unix: instant for the DUT1 look-up when ``dut1 = "iers"`` (now when None).
         env: where ``[[notify.push]] env = "NAME"`` URLs are looked up (``os.environ`` when None).
+        check_push: read every push destination's URL (secrets file, environment) and have apprise
+            check it; refuse a file holding secrets that others can read. ``siderod check`` and the
+            service do; a verb that only computes skips it (loading apprise costs about half a
+            second) and gets destinations without URLs.
 
     Returns:
         The whole :class:`~siderod.common.model.Config`.
@@ -204,7 +211,7 @@ def parse_config(text: str, path: str, *, read_file: Callable[[str], str] | None
     mount = _mount(problems, data)
     alerts = _alerts(problems, data)
     notify, secret_problems = _notify(problems, data, path, base_dir, read_file,
-                                      os.environ if env is None else env)
+                                      os.environ if env is None else env, check_push)
     view = _view(problems, data)
     target_files, target_problems, targets = _targets(problems, data, base_dir, read_file)
     targets_table = data.get("targets", {}) if isinstance(data.get("targets"), dict) else {}
@@ -545,8 +552,8 @@ def _hold_kinds(problems: Problems, value: Any) -> tuple[EventKind, ...] | None:
 
 
 def _notify(problems: Problems, data: Mapping[str, Any], path: str, base_dir: str,
-            read_file: Callable[[str], str],
-            env: Mapping[str, str]) -> tuple[NotifySettings, list[Problems]]:
+            read_file: Callable[[str], str], env: Mapping[str, str],
+            check_push: bool) -> tuple[NotifySettings, list[Problems]]:
     table = read_table(problems, data, "notify", "", _NOTIFY_KEYS)
     desktop = read_bool(problems, table, "desktop", "notify", default=True)
     sound = read_bool(problems, table, "critical_sound", "notify", default=True)
@@ -555,7 +562,7 @@ def _notify(problems: Problems, data: Mapping[str, Any], path: str, base_dir: st
     command: tuple[str, ...] = ()
     if "command" in table:
         command = _command(problems, table["command"])
-    push, secret_problems = _push(problems, table, path, base_dir, read_file, env)
+    push, secret_problems = _push(problems, table, path, base_dir, read_file, env, check_push)
     settings = NotifySettings(desktop=desktop if desktop is not None else True, command=command,
                               command_timeout_seconds=timeout if timeout is not None else 10.0,
                               push=push, critical_sound=sound if sound is not None else True)
@@ -563,18 +570,24 @@ def _notify(problems: Problems, data: Mapping[str, Any], path: str, base_dir: st
 
 
 def _push(problems: Problems, table: Mapping[str, Any], path: str, base_dir: str,
-          read_file: Callable[[str], str],
-          env: Mapping[str, str]) -> tuple[tuple[PushDestination, ...], list[Problems]]:
+          read_file: Callable[[str], str], env: Mapping[str, str],
+          check_push: bool) -> tuple[tuple[PushDestination, ...], list[Problems]]:
     """``[[notify.push]]`` destinations, their URLs from the file, a secrets file or the environment.
 
     No URL is ever repeated in an error message: a problem shows apprise's privacy form of it.
+    Without ``check_push`` only the tables' shape is checked and no URL is read.
     """
     entries = table.get("push", [])
     if not isinstance(entries, list) or not all(isinstance(e, dict) for e in entries):
         problems.add("notify.push", "not a list of tables",
                      '[[notify.push]] tables, each with a name and one of url, secret or env')
         return (), []
-    secrets, secrets_problems = _secrets_file(problems, table, base_dir, read_file)
+    secrets, secrets_problems = None, None
+    if check_push:
+        secrets, secrets_problems = _secrets_file(problems, table, base_dir, read_file)
+    elif "secrets" in table:
+        read_string(problems, table, "secrets", "notify",
+                    what='the path of a secrets file in quotes, like "secrets.toml"')
     extra = [secrets_problems] if secrets_problems is not None else []
     destinations: list[PushDestination] = []
     names: set[str] = set()
@@ -604,6 +617,12 @@ def _push(problems: Problems, table: Mapping[str, Any], path: str, base_dir: str
             problems.add(prefix, ", ".join(given) if given else "no url, secret or env",
                          'exactly one of url = "...", secret = "<key in the secrets file>" or '
                          'env = "<environment variable>"')
+            continue
+        if not check_push:
+            if None not in (name, min_urgency, send_timeout) and kinds is not False:
+                destinations.append(PushDestination(
+                    name=name, url="", masked_url=_UNCHECKED_URL, min_urgency=min_urgency, kinds=kinds,
+                    source="", timeout_seconds=send_timeout))
             continue
         found = _push_url(problems, entry, given[0], prefix, path, secrets, env)
         if found is None:

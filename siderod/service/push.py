@@ -45,7 +45,9 @@ class PushChannel:
     def __init__(self, destination: PushDestination) -> None:
         self.destination = destination
         self.name = CHANNEL_PREFIX + destination.name
-        self._secrets = check_url(destination.url).secrets
+        checked = check_url(destination.url)
+        self._secrets = checked.secrets
+        self._masked = checked.masked  # the same as destination.masked_url from a checked load
         self._plugin: Any = None
         self._worker_done = threading.Event()
         self._worker_done.set()
@@ -81,7 +83,7 @@ class PushChannel:
                 not finish within the timeout, or an earlier send has still not finished.
         """
         timeout_seconds = self.destination.timeout_seconds
-        masked = self.destination.masked_url
+        masked = self._masked
         if message.key in self._arrived_late:
             self._arrived_late.discard(message.key)
             log.info("%s: %s arrived after its send had timed out; not sending it again",
