@@ -109,7 +109,13 @@ _CONVERGED_HOURS = 1e-6
 #: distance D au is asin(_EARTH_RADIUS_AU / D).
 _EARTH_RADIUS_AU = 6378.137 / 149597870.7
 #: Horizon-profile crossings (see find_limit_events and _profile_curve):
-_POLISH_LIMIT_SECONDS = 60.0  # a polishing step this long means the crossing vanished (grazing pair)
+#: Polishing: a Newton step longer than the first bound, or a last step longer than the second, means
+#: the crossing vanished in the window (a grazing pair merged). The first guess is off by the
+#: declination's drift from the window centre: seconds, a few minutes for a grazing crossing at
+#: the end of a 48-hour piece; a converging second step is then a fraction of a second.
+_POLISH_FIRST_STEP_SECONDS = 900.0
+_POLISH_LAST_STEP_SECONDS = 0.5
+_POLISH_CONVERGED_SECONDS = 1e-3  # a second step this short leaves microseconds: no third one
 _CURVE_NODE_SPACING_DEG = 1.0  # first nodes along each segment (azimuth + altitude travelled)
 _CURVE_SPLIT = 8  # uncertain spans are cut into this many
 _CURVE_MAX_LEVELS = 16  # 8**16 spans per coarse span: far below any width the bound needs
@@ -741,27 +747,39 @@ def _polish_profile_crossings(track, last_hours_at, latitude_deg, curve, seg, id
     is then placed on this one's extension, off by the drift's share of the bend (sub-millisecond).
 
     Returns the times and a flag that is False where the crossing vanished (a grazing pair that
-    merged in the window: the rate has the wrong sign or the step is implausibly long).
+    merged in the window: the rate has the wrong sign or a step is implausibly long).
     """
     if idx.size == 0:
         return t, np.zeros(0, dtype=bool)
     ok = np.ones(idx.shape, dtype=bool)
     sp, cp = math.sin(latitude_deg * DEG_RAD), math.cos(latitude_deg * DEG_RAD)
-    omega = SIDEREAL_RATE_HOURS_PER_SECOND * HOUR_RAD
+    omega = np.full(idx.shape, SIDEREAL_RATE_HOURS_PER_SECOND * HOUR_RAD)
     if track.parallax_coeffs is not None:  # a body turns at its own hour-angle rate
         omega = (SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(t, idx)) * HOUR_RAD
-    for _ in range(2):
-        alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, t, idx)
-        limit_deg, slope_deg_per_deg = curve.line_deg(seg, az)
+
+    def newton_step(sel):
+        alt, az, _ = target_altaz(track, last_hours_at, latitude_deg, t[sel], idx[sel])
+        limit_deg, slope_deg_per_deg = curve.line_deg(seg[sel], az)
         a, h = az * DEG_RAD, alt * DEG_RAD
-        dh_dt = omega * cp * np.sin(a)
-        da_dt = omega * (sp - cp * np.tan(h) * np.cos(a))
-        rate = dh_dt - slope_deg_per_deg * da_dt  # radians (= degrees per degree) per second
-        ok &= np.where(rising, rate > 0.0, rate < 0.0)
+        rate = omega[sel] * (cp * np.sin(a) - slope_deg_per_deg * (sp - cp * np.tan(h) * np.cos(a)))
+        good = np.where(rising[sel], rate > 0.0, rate < 0.0)
         with np.errstate(divide="ignore", invalid="ignore"):
-            step = np.where(ok, -(alt - limit_deg) * DEG_RAD / rate, 0.0)
-        ok &= np.abs(step) < _POLISH_LIMIT_SECONDS
-        t = t + np.where(ok, step, 0.0)
+            return np.where(good, -(alt - limit_deg) * DEG_RAD / rate, np.inf)
+
+    everyone = np.arange(idx.size)
+    step = newton_step(everyone)
+    ok &= np.abs(step) < _POLISH_FIRST_STEP_SECONDS
+    t = t + np.where(ok, step, 0.0)
+    step = newton_step(everyone)
+    ok &= np.abs(step) < _POLISH_FIRST_STEP_SECONDS
+    t = t + np.where(ok, step, 0.0)
+    # A third step where the second was still long (a guess that started minutes away).
+    again = np.flatnonzero(ok & (np.abs(step) > _POLISH_CONVERGED_SECONDS))
+    if again.size:
+        step = newton_step(again)
+        good = np.abs(step) < _POLISH_LAST_STEP_SECONDS
+        t[again] = t[again] + np.where(good, step, 0.0)
+        ok[again] &= good
     return t, ok
 
 
