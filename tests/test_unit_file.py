@@ -214,3 +214,29 @@ def test_install_failure_is_explained(config_home, capsys):
     (config_home / "systemd").write_text("a file where a directory should be")
     assert run_verb("service", "install") == 4
     assert "could not write" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("where", ["before the verb", "after the verb", "after the action"])
+def test_install_carries_the_given_configuration_as_an_absolute_path(config_home, tmp_path, monkeypatch,
+                                                                    capsys, where):
+    # The unit ran the default configuration, quietly, whatever --config said.
+    from siderod.cli.main import main
+
+    cfg = tmp_path / "my site.toml"
+    cfg.write_text('[site]\nname = "x"\nlatitude = 50\nlongitude = 0\n')
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.delenv("SIDEROD_CONFIG", raising=False)
+    words = {"before the verb": ["--config", cfg.name, "service", "install", "--dry-run"],
+             "after the verb": ["service", "--config", cfg.name, "install", "--dry-run"],
+             "after the action": ["service", "install", "--dry-run", "--config", cfg.name]}[where]
+    assert main(words) == 0
+    out = capsys.readouterr().out
+    expected = format_exec_start([sys.executable, "-m", "siderod", "run", "--no-view", "--config", str(cfg)])
+    assert f"ExecStart={expected}\n" in out
+
+
+def test_install_refuses_a_configuration_that_does_not_exist(config_home, tmp_path, capsys):
+    from siderod.cli.main import main
+
+    assert main(["service", "install", "--dry-run", "--config", str(tmp_path / "missing.toml")]) == 1
+    assert "missing.toml" in capsys.readouterr().err

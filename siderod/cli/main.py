@@ -96,6 +96,9 @@ def build_parser() -> argparse.ArgumentParser:
         description="Sidereal clock and alert daemon: LST, culminations, altitude crossings, meridian flips.",
     )
     parser.add_argument("--version", action="version", version=f"siderod {__version__}")
+    # --config and --log-level go before the verb or after it (or after a verb's action, as in
+    # `service install --config FILE`); the one written last wins.
+    _add_common_options(parser, top_level=True)
     subparsers = parser.add_subparsers(title="commands", metavar="COMMAND")
     for name in _VERB_MODULES:
         importlib.import_module(name).register(subparsers)
@@ -104,22 +107,34 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def _add_common_options(parser: argparse.ArgumentParser) -> None:
-    # Every verb takes these; a verb that already defines one keeps its own.
+LOG_LEVELS = ("debug", "info", "warning", "error")
+
+
+def _add_common_options(parser: argparse.ArgumentParser, *, top_level: bool = False) -> None:
+    # Every verb takes these; a verb that already defines one keeps its own. Below the top level
+    # they default to SUPPRESS, so an option given before the verb is not reset by the verb's
+    # parser (argparse copies every sub-parser default over the caller's namespace).
     known = parser._option_string_actions  # argparse offers no public lookup
     if "--config" not in known:
         parser.add_argument(
             "--config",
             metavar="FILE",
+            default=None if top_level else argparse.SUPPRESS,
             help="configuration file (default: $SIDEROD_CONFIG, the user config directory, then the demo)",
         )
     if "--log-level" not in known:
         parser.add_argument(
             "--log-level",
-            default="warning",
-            choices=["debug", "info", "warning", "error"],
-            help="how much to log on stderr (default: warning; `run` logs at info)",
+            default="warning" if top_level else argparse.SUPPRESS,
+            type=str.lower,  # DEBUG and debug alike
+            choices=LOG_LEVELS,
+            help="how much to log on stderr: debug, info, warning or error, in any case "
+            "(default: warning; `run` logs at info)",
         )
+    for action in parser._actions:  # nested actions, as in `service install`
+        if isinstance(action, argparse._SubParsersAction):
+            for sub in action.choices.values():
+                _add_common_options(sub)
 
 
 def _silence_stdout() -> None:

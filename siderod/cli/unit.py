@@ -86,7 +86,7 @@ def run(args: argparse.Namespace) -> int:
     unit_dir = user_unit_dir(os.environ)
     unit_path = unit_dir / UNIT_NAME
     if args.unit_action == "install":
-        return _install(unit_path, dry_run=args.dry_run)
+        return _install(unit_path, dry_run=args.dry_run, config_args=_config_args(args))
     return _uninstall(unit_path, dry_run=args.dry_run)
 
 
@@ -144,8 +144,23 @@ def user_unit_dir(env: Mapping[str, str]) -> Path:
     return Path(config_home) / "systemd" / "user"
 
 
-def _install(unit_path: Path, *, dry_run: bool) -> int:
-    argv = [*find_entry_point(sys.argv[0], sys.executable), "run", "--no-view"]
+def _config_args(args: argparse.Namespace) -> list[str]:
+    """``["--config", <absolute path>]`` for a configuration named by --config or $SIDEROD_CONFIG.
+
+    The unit runs with systemd's environment and working directory, so a relative path or the
+    variable would not reach it: the path is made absolute and written into ExecStart. A named
+    file that does not exist is refused (ConfigErrors, exit 1) rather than written into a unit.
+    """
+    from siderod.files.config import FOUND_ENV, FOUND_OPTION, find_config
+
+    path, how = find_config(getattr(args, "config", None), os.environ)
+    if how in (FOUND_OPTION, FOUND_ENV):
+        return ["--config", os.path.abspath(path)]
+    return []
+
+
+def _install(unit_path: Path, *, dry_run: bool, config_args: Sequence[str] = ()) -> int:
+    argv = [*find_entry_point(sys.argv[0], sys.executable), "run", "--no-view", *config_args]
     text = render_unit(format_exec_start(argv))
     if dry_run:
         print(f"would write {unit_path}:\n")

@@ -80,3 +80,8 @@ def test_check_says_which_kinds_the_sun_hold_covers(capsys, tmp_path):
     out, _ = capsys.readouterr()
     assert "no alerts for culmination, flip-due (as named in hold_kinds)" in out
     assert "caution: the Sun hold silences flip-due" in out
+
+
+def test_config_and_log_level_are_accepted_before_the_verb_too(capsys, demo_config_path):
+    assert main(["--config", str(demo_config_path), "--log-level", "DEBUG", "check"]) == 0
+    assert f"configuration: {demo_config_path} (given with --config)" in capsys.readouterr().out
