@@ -405,3 +405,16 @@ def test_a_latitude_whose_sign_and_letter_disagree_is_refused():
     for text in ('"-32 22 40 N"', '"+32 22 40 S"'):
         error = _one_error(SITE.replace('"+56 12 30"', text))
         assert error.key == "site.latitude" and error.line == 3 and "disagree" in str(error)
+
+
+def test_the_demo_states_its_dut1_and_needs_no_iers_table(monkeypatch):
+    # On a fresh install (no astropy-iers-data) every screen of the demo said "DUT1 +0.000 s via
+    # default (0 s) ... install astropy-iers-data": a warning a new user cannot act on.
+    import siderod.files.config as config_module
+
+    monkeypatch.setattr(config_module, "find_iers_finals", lambda: None)
+    config = load_config(str(demo_config_path()), {})
+    assert config.time.dut1_source == "config"
+    # The value stated is the IERS prediction for the demo night (astropy-iers-data's
+    # finals2000A.all gives -0.0965 s to -0.0971 s over 14/15 December 2026), rounded.
+    assert config.time.dut1_seconds == pytest.approx(-0.0967, abs=0.0005)
