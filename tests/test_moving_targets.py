@@ -120,3 +120,17 @@ def test_board_shows_magnitude_epoch_and_old_elements(config):
     line = next(line for line in text.splitlines() if line.startswith("C/2026 X1"))
     assert "elements 2026-12-01" in line and "76 d old" in line and "mag " in line
     assert np.isfinite(inputs.sky.magnitude[2])
+
+
+@pytest.mark.slow
+def test_demo_plans_alerts_for_jupiter_and_the_comet():
+    # The bundled demo: Jupiter's and the comet's flips are planned like any target's (the Moon's
+    # alerts are switched off in the demo file).
+    from siderod.files.config import load_config
+
+    demo = load_config(None, {})
+    agenda = compute_agenda(demo, NIGHT)
+    planned = plan_alerts(agenda, demo, muted={}, now_utc=NIGHT)
+    flips = {a.event.target for a in planned if a.event.kind is EventKind.FLIP_DUE}
+    assert {"Jupiter", "Comet Corrie Hill"} <= flips
+    assert not any(a.event.target == "Moon" for a in planned)
