@@ -61,8 +61,8 @@ def test_demo_night_has_every_kind_sorted_with_classifications():
             EventKind.ALTITUDE_UP, EventKind.HOUR_ANGLE, EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT,
             EventKind.SUNSET, EventKind.SUNRISE, EventKind.ASTRONOMICAL_DUSK,
             EventKind.ASTRONOMICAL_DAWN} <= kinds
-    assert agenda.classification == {"Betelgeuse": "normal", "Capella": "circumpolar", "Sirius": "normal",
-                                     "Deep south": "never-rises", "Parked": "circumpolar"}
+    assert agenda.classification == {"Betelgeuse": "normal", "Capella": "up-whole-window", "Sirius": "normal",
+                                     "Deep south": "down-whole-window", "Parked": "up-whole-window"}
     assert not any(e.target == "Parked" for e in agenda.events)
     assert not any(e.target == "Deep south" and e.kind in (EventKind.RISE, EventKind.SET)
                    for e in agenda.events)
@@ -244,3 +244,16 @@ def test_a_targets_own_hour_angle_marks_are_listed_for_it_only():
             ha_deg, _ = star.hadec(np.array([event.time_utc.timestamp()]))
             off_hours = (ha_deg[0] / 15.0 - event.mark_hours + 12.0) % 24.0 - 12.0
             assert abs(off_hours) * 3600.0 / 1.0027379 < HOUR_ANGLE_MARK_SECONDS
+
+
+def test_the_window_state_never_borrows_the_trade_words():
+    # A one-hour window: the trade's circumpolar/never-rises depend on latitude, declination and
+    # usable altitude only, not on how long a window is. Vega (Dec +38.8) dips to +5 deg at 56 N.
+    targets = (_target("Vega", 279.2347, 38.7837), _target("Equator", 90.0, 0.0),
+               _target("M42", 83.8221, -5.3911), TARGETS[1], TARGETS[3])
+    agenda = compute_agenda(_config(targets=targets), datetime(2026, 12, 14, 22, tzinfo=UTC), 1.0)
+    values = set(agenda.classification.values())
+    assert values <= {"normal", "up-whole-window", "down-whole-window"}
+    assert agenda.sky_classes == {"Vega": "rises-and-sets", "Equator": "rises-and-sets",
+                                  "M42": "rises-and-sets", "Capella": "circumpolar",
+                                  "Deep south": "never-rises"}

@@ -168,7 +168,9 @@ def write_json(agenda, config, out) -> None:
         ])[0 if first else 1:])  # no comma before the first event
     write(b"\n  ],\n")
     classes = dict(zip(agenda.target_names, (_CLASSES[c] for c in agenda.class_codes.tolist()), strict=True))
-    write(f'  "classification": {json.dumps(classes)},\n  "dark_intervals": {{'.encode())
+    sky = json.dumps(dict(agenda.sky_classes))
+    write(f'  "classification": {json.dumps(classes)},\n  "sky_class": {sky},\n'.encode())
+    write(b'  "dark_intervals": {')
     # Dark intervals: one fixed-width "[begin, end]" per row, then sliced per target.
     target = agenda.dark_target
     k = target.size
@@ -189,7 +191,8 @@ def write_json(agenda, config, out) -> None:
 
 
 _JSON_BLOCK = 65536  # events per block written: bounds the memory of the byte columns
-_CLASSES = ("normal", "circumpolar", "never-rises")  # siderod.plan.agenda.CLASSES, without importing it
+_CLASSES = ("normal", "up-whole-window", "down-whole-window")  # siderod.plan.agenda.CLASSES, not imported
+_CLASS_WORDS = {"up-whole-window": "up the whole window", "down-whole-window": "down the whole window"}
 
 
 def _kinds():
@@ -218,10 +221,11 @@ def _print_table(agenda, config) -> None:
 
     out = sys.stdout
     total = len(agenda.table)
+    notes = _summary_lines(agenda)
     rows = None
     if out.isatty():
         height = shutil.get_terminal_size().lines
-        rows = max(1, height - _TABLE_FRAME_LINES)
+        rows = max(1, height - _TABLE_FRAME_LINES - len(notes))
     shown = total if rows is None or total <= rows else rows
     write = _byte_writer(out)
     hours = (agenda.end_utc - agenda.start_utc).total_seconds() / 3600
@@ -233,14 +237,33 @@ def _print_table(agenda, config) -> None:
     elif shown < total:
         write(f"... and {total - shown} more events: pipe the output (| less) or use --json to see "
               "them all\n".encode())
-    rare = [(n, _CLASSES[c]) for n, c in zip(agenda.target_names, agenda.class_codes.tolist(), strict=True)
-            if c]
-    if rare:
-        write(("Whole window: " + "; ".join(f"{n} {c}" for n, c in sorted(rare)) + "\n").encode())
+    if notes:
+        write(("\n".join(notes) + "\n").encode())
 
 
-#: Lines of a terminal the table leaves for the title, header, rule and trailing notes.
-_TABLE_FRAME_LINES = 7
+def _summary_lines(agenda) -> list[str]:
+    """The lines under the table: the window's own state in words of ours, then "circumpolar" and
+    "never rises" in their trade meaning only (latitude, declination, usable altitude)."""
+    groups = []
+    codes = agenda.class_codes.tolist()
+    for code, words in _CLASS_WORDS.items():
+        groups.append((words.capitalize(), sorted(n for n, c in zip(agenda.target_names, codes, strict=True)
+                                                  if _CLASSES[c] == code)))
+    for sky, words in (("circumpolar", "Circumpolar here (never below its usable altitude)"),
+                       ("never-rises", "Never rises here (never above its usable altitude)")):
+        groups.append((words, sorted(n for n, c in agenda.sky_classes.items() if c == sky)))
+    lines = []
+    for words, names in groups:
+        if names:
+            more = f" and {len(names) - _NAMES_SHOWN} more (--json lists them)" * (len(names) > _NAMES_SHOWN)
+            lines.append(f"{words}: {', '.join(names[:_NAMES_SHOWN])}{more}")
+    return lines
+
+
+#: Lines of a terminal the table leaves for the title, header, rule, the "... more" line and the prompt.
+_TABLE_FRAME_LINES = 6
+#: Names listed in each summary line under the table.
+_NAMES_SHOWN = 10
 _HEADERS = (("Local", "<"), ("UTC", "<"), ("Event", "<"), ("Target", "<"), ("Alt°", ">"), ("Az°", ">"),
             ("HA h", ">"), ("Note", "<"))
 _WEEKDAYS = (b"Mon", b"Tue", b"Wed", b"Thu", b"Fri", b"Sat", b"Sun")

@@ -18,7 +18,10 @@ Conventions, said once:
   positions whatever the refraction switch says: -0.8333 deg for sunrise/sunset (horizon refraction
   and semidiameter included), -6/-12/-18 deg for the twilights, the Moon's upper limb at -34'.
 * Fixed hour-angle (``hadec``) pointings have a constant altitude: they get no events, only a
-  classification ("circumpolar" when usable, else "never-rises") and their dark intervals.
+  window state ("up-whole-window" when usable, else "down-whole-window") and their dark intervals.
+* The window state names what happened in this window only. The trade's "circumpolar" and
+  "never rises" depend on latitude, declination and usable altitude alone; they are in
+  ``sky_classes`` (see :mod:`siderod.plan.skyclass`) and nowhere else.
 """
 
 from __future__ import annotations
@@ -40,6 +43,7 @@ from siderod.astro.timescales import instants_from_unix
 from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
 from siderod.plan.moving import ephemeris_for, is_moving, moving_places
 from siderod.plan.positions import altitude_limit, observer_for, target_stars
+from siderod.plan.skyclass import SKY_CLASSES, sky_class_codes
 from siderod.plan.table import KIND_CODES, EventTable, utc_from_unix
 
 __all__ = [
@@ -97,11 +101,22 @@ class Agenda:
         """Every event as an ``Event`` record, sorted like ``table``."""
         return self.table.records()
 
+    sky_codes: tuple[int, ...] = ()  # per target: index into skyclass.SKY_CLASSES, -1: none
+
     @cached_property
     def classification(self) -> Mapping[str, str]:
-        """Target name -> "circumpolar" (usable all window), "never-rises" (never usable in the
-        window) or "normal"."""
+        """Target name -> "up-whole-window" (usable all window), "down-whole-window" (never usable
+        in the window) or "normal"."""
         return dict(zip(self.target_names, (CLASSES[c] for c in self.class_codes.tolist()), strict=True))
+
+    @cached_property
+    def sky_classes(self) -> Mapping[str, str]:
+        """Target name -> "circumpolar", "rises-and-sets" or "never-rises" (the trade's fixed
+        meaning: latitude, declination, usable altitude), for targets with a fixed place on the sky."""
+        if not self.sky_codes:  # an agenda made without them
+            return {}
+        pairs = zip(self.target_names, self.sky_codes, strict=True)
+        return {name: SKY_CLASSES[c] for name, c in pairs if c >= 0}
 
     @cached_property
     def dark_intervals(self) -> Mapping[str, tuple[tuple[datetime, datetime], ...]]:
@@ -114,8 +129,8 @@ class Agenda:
 
 
 #: Whole-window classes, by code (``Agenda.class_codes``).
-CLASSES = ("normal", "circumpolar", "never-rises")
-_NORMAL, _CIRCUMPOLAR, _NEVER_RISES = range(3)
+CLASSES = ("normal", "up-whole-window", "down-whole-window")
+_NORMAL, _UP_ALL_WINDOW, _DOWN_ALL_WINDOW = range(3)
 
 
 def compute_agenda(config: Config, start_utc: datetime, hours: float | None = None, *,
@@ -175,14 +190,14 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
             config, observer, group, first, start_unix, end_unix, wanted, parts, sky_names)
         count = np.bincount(cross_idx, minlength=len(group))
         class_codes[first:first + len(group)] = np.where(
-            count > 0, _NORMAL, np.where(up_at_start, _CIRCUMPOLAR, _NEVER_RISES))
+            count > 0, _NORMAL, np.where(up_at_start, _UP_ALL_WINDOW, _DOWN_ALL_WINDOW))
         dark_parts.append(_dark_spans(up_at_start, cross_idx, cross_t, cross_rising, start_unix, end_unix,
                                       night, offset=first))
         if progress is not None:
             progress(first + len(group), total)
     for k, target in enumerate(fixed):
         usable = _fixed_usable(config, target)
-        class_codes[len(sky) + k] = _CIRCUMPOLAR if usable else _NEVER_RISES
+        class_codes[len(sky) + k] = _UP_ALL_WINDOW if usable else _DOWN_ALL_WINDOW
         if usable and len(night):
             dark_parts.append((np.full(len(night), len(sky) + k), night[:, 0].copy(), night[:, 1].copy()))
 
@@ -204,7 +219,20 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
     table = EventTable.concat(parts, sky_names).sorted()
     return Agenda(start_utc=_utc(start_unix), end_utc=_utc(end_unix), table=table,
                   target_names=tuple(order_names), class_codes=codes, dark_target=dt, dark_begin_unix=db,
-                  dark_end_unix=de)
+                  dark_end_unix=de, sky_codes=_sky_codes(config, chosen, summarised))
+
+
+def _sky_codes(config: Config, chosen, summarised) -> tuple[int, ...]:
+    # The trade's classes for targets with a fixed place on the sky (catalogue declination, no
+    # refraction), against the target's own lowest usable altitude; -1 for fixed pointings and
+    # moving bodies, which have no fixed class.
+    listed = [t for t in chosen if t.name in summarised]
+    fixed_place = [t.frame is not Frame.HADEC and not is_moving(t) for t in listed]
+    dec = np.array([t.dec_deg if ok else 0.0 for t, ok in zip(listed, fixed_place, strict=True)])
+    usable = np.array([config.events.min_altitude_deg if t.min_altitude_deg is None else t.min_altitude_deg
+                       for t in listed])
+    codes = sky_class_codes(config.site.latitude_deg, dec, usable) if listed else np.zeros(0, dtype=np.int8)
+    return tuple(int(c) if ok else -1 for c, ok in zip(codes.tolist(), fixed_place, strict=True))
 
 
 def event_to_json(event: Event) -> dict:

@@ -160,3 +160,24 @@ def test_piped_table_has_every_event(capsys):
     shown = _event_lines(capsys.readouterr().out)
     assert len(shown) == len(events)
     assert [line.split()[4] for line in shown] == [e["kind"] for e in events]  # after local time and UTC
+
+
+def test_no_output_calls_a_window_state_circumpolar(capsys, demo_config_path):
+    # A one-hour window: the window's state has words of its own; "circumpolar" and "never rises"
+    # appear only in their trade meaning (latitude, declination, usable altitude).
+    import json
+
+    from siderod.cli.main import main
+
+    args = ["agenda", "--config", str(demo_config_path), "--from", "2026-12-14T22:00:00Z", "--hours", "1"]
+    assert main(args + ["--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert set(data["classification"].values()) <= {"normal", "up-whole-window", "down-whole-window"}
+    assert data["sky_class"]["M45"] == "rises-and-sets"  # dips to -9.7 deg at 56 N
+    assert data["sky_class"]["Capella"] == "circumpolar"
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "Up the whole window:" in out
+    circumpolar = [line for line in out.splitlines() if "ircumpolar" in line]
+    assert circumpolar and all(line.startswith("Circumpolar here") for line in circumpolar)
+    assert "M45" not in circumpolar[0]
