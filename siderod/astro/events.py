@@ -622,6 +622,12 @@ def find_limit_events(track: TargetTrack, last_hours_at, latitude_deg: float, li
       target grazes the curve by less than its drift; such a pair is dropped together);
     * events closer than 1 ms to a window edge follow :data:`EDGE_TOLERANCE_SECONDS`.
 
+    The argument is for targets with a fixed place (stars, catalogue objects): their declination
+    drifts by arcseconds a day. A body whose declination moves (a track with parallax: the Moon, a
+    planet, a comet) is matched to every piece its declination range over the window meets, and
+    each candidate is followed in time (:func:`_follow_moving`: the body's declination at each step
+    picks the point of the piece); a candidate whose declination leaves the piece is dropped.
+
     Args:
         track, last_hours_at, latitude_deg: as for :func:`find_altitude_events`.
         limit: the per-target, per-azimuth limit.
