@@ -202,3 +202,26 @@ def test_mean_anomaly_and_semi_major_axis_give_the_same_orbit():
                             mean_anomaly_deg=np.degrees(100.0 * n))
     assert abs(float(by_a.tp_jd_tt[0]) - float(by_q.tp_jd_tt[0])) < 1e-8
     assert abs(float(by_a.q_au[0]) - float(by_q.q_au[0])) < 1e-12
+
+
+#: Meeus Example 33.a uses the full VSOP87 and the FK5 frame; DE421 and ICRS differ from those by well
+#: under 0.2" for Venus (measured 0.05").
+MEEUS_33A_TOL_ARCSEC = 0.2
+#: Meeus Example 47.a uses his truncated ELP-2000/82 series, good to about 10" (his statement).
+MEEUS_47A_TOL_ARCSEC = 10.0
+
+
+def test_meeus_example_33a_venus(eph):
+    # Meeus, Astronomical Algorithms (2nd ed.), Example 33.a [from memory]: Venus, 1992 December 20,
+    # 0h TD: apparent RA 21h04m41.454s, Dec -18d53'16.84".
+    ra, dec, _ = body_apparent_radec(eph, "venus", instants_from_jd(np.array([2448976.5]), 0.0, scale="tt"))
+    ref_ra = (21 + 4 / 60 + 41.454 / 3600) * 15.0
+    ref_dec = -(18 + 53 / 60 + 16.84 / 3600)
+    assert _angle_arcsec(_unit(ra[0] * 15.0, dec[0]), _unit(ref_ra, ref_dec)) < MEEUS_33A_TOL_ARCSEC
+
+
+def test_meeus_example_47a_moon(eph):
+    # Meeus, Astronomical Algorithms (2nd ed.), Example 47.a [from memory]: the Moon, 1992 April 12,
+    # 0h TD: apparent RA 134.688470 deg, Dec +13.768368 deg.
+    ra, dec, _ = body_apparent_radec(eph, "moon", instants_from_jd(np.array([2448724.5]), 0.0, scale="tt"))
+    assert _angle_arcsec(_unit(ra[0] * 15.0, dec[0]), _unit(134.688470, 13.768368)) < MEEUS_47A_TOL_ARCSEC
