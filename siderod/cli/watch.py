@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from typing import Any
 
@@ -74,6 +75,7 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
     else:
         now_utc = SystemClock().now_utc()  # the one read of the wall clock
         snapshot, source = _ask_service(os.environ)
+        snapshot, source = _same_config_or_none(args, snapshot, source)
     config = _load_config(args, snapshot, now_utc)
     from siderod.service.clockhealth import read_clock_health
 
@@ -106,6 +108,7 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
 
     clock = SystemClock()
     snapshot, source = _ask_service(os.environ)
+    snapshot, source = _same_config_or_none(args, snapshot, source)
     config = _load_config(args, snapshot, clock.now_utc())
     socket_path = resolve_paths(os.environ).socket_path
 
@@ -155,6 +158,34 @@ def _ask_service(env: Any) -> tuple[Any, str]:
         return None, "computed here, no service"
     except SiderodError as exc:
         return None, f"computed here, service unreadable: {exc}"
+
+
+def _same_config_or_none(args: argparse.Namespace, snapshot: Any, source: str) -> tuple[Any, str]:
+    """Never mix two configurations on one board.
+
+    With a service running one file and ``--config`` naming another, the board would show the
+    other file's targets beside the service's alerts. Instead it is computed here from the file
+    named, says so in its title line, and a warning on stderr names both files.
+    """
+    from siderod.files.config import find_config
+
+    explicit = getattr(args, "config", None)
+    if snapshot is None or not explicit or not snapshot.config_path:
+        return snapshot, source
+    named, _ = find_config(explicit, os.environ)
+    if _same_file(named, snapshot.config_path):
+        return snapshot, source
+    print(f"siderod watch: {named} differs from the configuration the running service uses "
+          f"({snapshot.config_path}); showing {named} computed here, without the service's alerts. "
+          "Leave out --config to watch the service.", file=sys.stderr)
+    return None, f"computed here from {os.path.basename(named)}; the service runs another file"
+
+
+def _same_file(a: Any, b: Any) -> bool:
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return os.path.abspath(a) == os.path.abspath(b)
 
 
 def _load_config(args: argparse.Namespace, snapshot: Any, now_utc: Any) -> Any:

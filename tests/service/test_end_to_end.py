@@ -232,6 +232,18 @@ def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanl
         assert done.returncode == 0, done.stderr
         assert "from the service" in done.stdout, done.stdout
         assert "Corrie Hill Observatory" in done.stdout
+        # Naming the service's own file is no mix; naming another one must never put that file's
+        # targets beside the service's alerts without a word (issue 13, item 10).
+        done = siderod(env, "watch", "--once", "--config", str(config))
+        assert "from the service" in done.stdout and "differs" not in done.stderr
+        other = short_dir / "other.toml"
+        renamed = config.read_text().replace('name = "Corrie Hill Observatory"', 'name = "Other Site"')
+        other.write_text(renamed)
+        done = siderod(env, "watch", "--once", "--config", str(other))
+        assert done.returncode == 0, done.stderr
+        assert f"{other}" in done.stderr and f"{config}" in done.stderr and "differs" in done.stderr
+        assert "Other Site" in done.stdout and "from the service" not in done.stdout
+        assert "computed here from" in done.stdout
 
         process.send_signal(signal.SIGTERM)
         assert process.wait(timeout=DEADLINE_SECONDS) == 0, log_file.read_text()
