@@ -949,8 +949,8 @@ def _profile_curve(az_points, alt_points, lat_deg, refraction, pressure, tempera
     """The pieces of monotone declination of one horizon profile (cached: depends on no target).
 
     Turning points of ``z(u)`` are the zeros of ``dz/du``. On a span of width ``delta`` (in u)
-    whose ends both have ``|dz/du| > M delta + E``, with M a bound on ``|d2z/du2|`` over the
-    segment and E a bound on the error of the computed ``dz/du``, ``dz/du`` cannot vanish (it
+    with ``|dz/du| > M delta + E`` at either end, M a bound on ``|d2z/du2|`` over the segment and
+    E a bound on the error of the computed ``dz/du``, ``dz/du`` cannot vanish (from that end it
     would have to fall by more than ``M delta``): the span is certified. Uncertain spans are
     split in 8 until certified or narrower than ``max(1e-10, 4 E / M)``; the ends of those left are
     made break nodes. M comes from differentiating ``z = sin(lat) sin G + cos(lat) cos G cos A``
