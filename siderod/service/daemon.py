@@ -228,6 +228,7 @@ class Service:
             self._catch_up_floor_utc = self._ledger.catch_up_floor(self.started_utc)
             keep_from_utc = self._clock.now_utc() - timedelta(days=LEDGER_KEEP_DAYS)
             self._write("prune", lambda: self._ledger.prune(keep_from_utc))
+            self._scope_ledger_to(self.config)  # before the workers pick up what is owed
             self._mutes = self._ledger.mutes(self._clock.now_utc())
             from siderod.service.mount import MountDesk
 
@@ -504,6 +505,9 @@ class Service:
             self._channels = self._build_channels(new_config)
             self._start_workers()
         self._mount.update_config(new_config)
+        dropped = self._scope_ledger_to(new_config)
+        for worker in self._workers.values():
+            worker.drop(set(dropped))
         log.info("configuration reloaded (%s) from %s", reason, new_config.path)
         await self.replan("reload")
         self._notify("READY=1\n" + self._status_line())
@@ -532,8 +536,14 @@ class Service:
             ledger = self._ledger
             swept = self._write("sweep missed alerts", lambda: ledger.sweep_missed(now_utc - grace, now_utc),
                                 journal=False, fallback=())
+            known = self._known_names(config)
+            gone = [row for row in swept if row.target not in known]
+            if gone:
+                log.info("dropped %d missed alerts of targets no longer in %s (%s): not reported",
+                         len(gone), config.path, ", ".join(sorted({r.target for r in gone})))
             for row in swept:
-                self._note_missed(row.title, row.due_utc)
+                if row.target in known:
+                    self._note_missed(row.title, row.due_utc)
             # Early enough that an event whose repeats are still owed is in the agenda.
             lookback = grace + timedelta(minutes=repeat_lookback_minutes(config))
             start_utc = now_utc - lookback
@@ -1029,6 +1039,33 @@ class Service:
         if self._offload_planning:
             return await asyncio.to_thread(work)
         return work()
+
+    @staticmethod
+    def _known_names(config: Config) -> set[str]:
+        return {t.name for t in config.targets} | {SKY_TARGET_NAME}
+
+    def _scope_ledger_to(self, config: Config) -> tuple[str, ...]:
+        """Drop the ledger state of targets this configuration does not have; log what went.
+
+        After a switch to another configuration, mutes of targets that no longer exist would be
+        listed by `status`, and alerts still owed for them sent (late) after a restart. Returns the
+        keys whose debts were dropped, so live channel workers can forget them too.
+        """
+        assert self._ledger is not None
+        ledger = self._ledger
+        known = self._known_names(config)
+        now_utc = self._clock.now_utc()
+        for name in sorted(set(ledger.mutes(now_utc)) - known):
+            self._write("drop a mute", lambda name=name: ledger.clear_mute(name))
+            log.warning("dropped the mute of %s: no target of that name in %s", name, config.path)
+        stale = sorted({event_id(o.alert.key) for o in ledger.owed() if o.alert.target not in known})
+        if not stale:
+            return ()
+        keys = self._write("drop owed alerts", lambda: ledger.drop_owed_of_events(stale, now_utc),
+                           fallback=())
+        log.warning("dropped %d owed alerts of targets no longer in %s: %s", len(keys), config.path,
+                    ", ".join(sorted({k.split("|", 1)[0] for k in keys})))
+        return tuple(keys)
 
     def _known_target(self, name: Any) -> str:
         assert self.config is not None
