@@ -51,6 +51,7 @@ _VERB_MODULES = (
     "siderod.cli.shortlist",
     "siderod.cli.enlist",
     "siderod.cli.check",
+    "siderod.cli.init",
     "siderod.cli.unit",
 )
 
