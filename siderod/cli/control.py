@@ -332,7 +332,7 @@ def _report_result(verb: str, args: argparse.Namespace, result: dict[str, Any]) 
             print(f"acknowledged {len(events)} alert{'s' if len(events) != 1 else ''}; "
                   "they repeat no more:")
             for event in events:
-                print(f"  {event}")
+                print(f"  {_event_text(event, None)}")
     elif verb == "use":
         target = result.get("target")
         print(f"target in use: {target}" if target else "no target in use: every target alerts as usual")

@@ -95,6 +95,9 @@ class FakeService:
             return {"reloaded": self.config_ok, "config_path": "/cfg/config.toml", "error": error}
         if request.op == Op.TEST_ALERT:
             return {"channels": {"desktop": "no session bus", "log": "ok"}}
+        if request.op == Op.ACK:
+            given = request.target in (None, "Demo Cluster A")
+            return {"acknowledged": ["Demo Cluster A|flip-due|2026-12-14T23:41:00Z"] if given else []}
         return {}
 
 
@@ -267,3 +270,13 @@ def test_bad_duration_is_an_argparse_error(capsys):
 )
 def test_format_duration(seconds, text):
     assert format_duration(seconds) == text
+
+
+async def test_ack_and_its_long_name_send_the_same_request(socket_path, fake, capsys):
+    assert await run_cli("ack", "--socket", socket_path) == 0
+    assert capsys.readouterr().out.splitlines() == [
+        "acknowledged 1 alert; they repeat no more:", "  Demo Cluster A flip-due at 2026-12-14 23:41:00 UTC"]
+    assert await run_cli("acknowledge", "Demo Pair C", "--socket", socket_path) == 0
+    assert capsys.readouterr().out.strip() == (
+        "nothing to acknowledge for Demo Pair C: no critical alert is repeating")
+    assert fake.requests == [Request(Op.ACK), Request(Op.ACK, "Demo Pair C")]
