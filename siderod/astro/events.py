@@ -1231,7 +1231,10 @@ def _mark_candidates(track, last_hours_at, idx, ha_hours, mark, start_unix, end_
     else:
         # A body's own day (the Moon's is about 24 h 50 m) from its hour-angle rate at the start.
         h0, _ = track.hadec_at(np.full(idx.shape, t0), last_hours_at, idx)
-        rate = SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(t0, idx)
+        # Floor at a tenth of the sidereal rate: only a body passing within a few Earth radii
+        # moves that fast in RA; it keeps the guesses finite and in order.
+        rate = np.maximum(SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(t0, idx),
+                          0.1 * SIDEREAL_RATE_HOURS_PER_SECOND)
         day = 24.0 / rate
     first = t0 + _wrap24(ha_hours - h0) / rate
     parts_idx, parts_t, parts_mark = [], [], []

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import argparse
 import pathlib
+import shutil
 import statistics
 import subprocess
 import sys
@@ -63,6 +64,7 @@ def main() -> None:
     ours = medians[STAR_CASE]
     planets = medians[NOW_CASE]
     reference = medians["astropy Time.sidereal_time('apparent') (reference)"]
+    shutil.rmtree(_STAR_ONLY_DIR, ignore_errors=True)
     print(f"\ncold `siderod now`, stars only: {ours:.2f} s (aim <= 0.5 s); with planets: {planets:.2f} s "
           f"(aim <= 0.7 s); astropy one-off LST: {reference:.2f} s; ratio {reference / ours:.1f}x")
 
