@@ -198,3 +198,18 @@ def test_a_verb_that_only_computes_reads_no_push_url_and_no_apprise(tmp_path):
     assert done.stdout.split() == ["phone", "''", "False"], done.stderr
     with pytest.raises(ConfigErrors, match="chmod 600"):
         load_config(str(path), {}, check_push=True)
+
+
+@pytest.mark.slow
+def test_the_service_refuses_to_start_with_a_shared_secrets_file(tmp_path):
+    _write(tmp_path / "secrets.toml", f'phone = "ntfys://{SECRET}@push.example.org/scope"\n', 0o644)
+    path = _config(tmp_path, '[notify]\ndesktop = false\nsecrets = "secrets.toml"\n[[notify.push]]\n'
+                   'name = "phone"\nsecret = "phone"\n')
+    home = tmp_path / "home"
+    env = {**os.environ, "PYTHONPATH": str(REPO), "XDG_RUNTIME_DIR": str(home / "run"),
+           "XDG_STATE_HOME": str(home / "state"), "XDG_CONFIG_HOME": str(home / "config")}
+    done = subprocess.run([sys.executable, "-m", "siderod", "run", "--no-view", "--config", str(path)],
+                          capture_output=True, text=True, env=env, timeout=60)
+    assert done.returncode == 1
+    assert f"{tmp_path / 'secrets.toml'}:1: expected a file only its owner can read" in done.stderr
+    assert SECRET not in done.stdout + done.stderr
