@@ -346,7 +346,7 @@ def test_bundled_demo_loads_and_is_marked(tmp_path):
     assert (config.mount.flip_after_minutes, config.mount.limit_after_minutes) == (10.0, 25.0)
     assert config.alerts.lead_minutes[EventKind.FLIP_DUE] == (10.0, 0.0)
     assert {t.frame.value for t in config.targets} == {"icrs", "galactic", "ecliptic", "ecliptic-of-date",
-                                                         "hadec", "body", "orbit"}
+                                                         "fixed-pointing", "body", "orbit"}
 
 
 def test_repository_config_links_point_at_the_bundled_demo():

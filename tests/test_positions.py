@@ -102,7 +102,7 @@ def test_subset_of_targets_and_empty_list(config):
 
 def test_rising_follows_hour_angle(config):
     sky = compute_sky(config, AT_UNIX)
-    sky_targets = np.array([f != "hadec" for f in sky.frames])
+    sky_targets = np.array([f != "fixed-pointing" for f in sky.frames])
     assert np.array_equal(sky.rising[sky_targets], sky.ha_hours[sky_targets] < 0)
 
 

@@ -52,7 +52,7 @@ alerts = false
 
 [[target]]
 name = "Scan"
-frame = "hadec"
+frame = "fixed-pointing"
 ha = "-1h30m"
 dec = 41
 '''
@@ -114,7 +114,8 @@ def test_coordinates_of_another_frame_are_refused():
 
 def test_unknown_frame_lists_choices():
     (error,) = _errors('[[target]]\nname = "A"\nframe = "fk4"\nra = 30\ndec = 2\n')
-    assert error.key == "target[1].frame" and '"icrs" | "galactic" | "ecliptic" | "hadec"' in error.expected
+    choices = '"icrs" | "galactic" | "ecliptic" | "ecliptic-of-date" | "fixed-pointing"'
+    assert error.key == "target[1].frame" and choices in error.expected
 
 
 def test_bad_ra_repeats_text():
@@ -124,12 +125,12 @@ def test_bad_ra_repeats_text():
 
 
 def test_proper_motion_only_with_radec():
-    (error,) = _errors('[[target]]\nname = "A"\nframe = "hadec"\nha = 0\ndec = 2\npm_ra = 5\n')
+    (error,) = _errors('[[target]]\nname = "A"\nframe = "fixed-pointing"\nha = 0\ndec = 2\npm_ra = 5\n')
     assert error.key == "target[1].pm_ra" and "ra/dec" in error.expected
 
 
 def test_hour_angle_range_is_in_hours():
-    (error,) = _errors('[[target]]\nname = "A"\nframe = "hadec"\nha = 13\ndec = 2\n')
+    (error,) = _errors('[[target]]\nname = "A"\nframe = "fixed-pointing"\nha = 13\ndec = 2\n')
     assert error.key == "target[1].ha" and "[-12, 12]" in error.expected and "hours" in error.expected
 
 
@@ -181,3 +182,20 @@ def test_a_targets_own_hour_angle_marks_are_read_sorted_and_checked():
     assert [(e.line, e.key) for e in errors] == [(5, "target[1].hour_angles[2]")]
     errors = _errors(head + 'hour_angles = "-1h"\n')
     assert errors[0].key == "target[1].hour_angles" and "a list like" in str(errors[0])
+
+
+def test_the_fixed_pointing_frame_has_a_name_of_our_own_and_the_old_one_is_refused_with_it():
+    text = '[[target]]\nname = "A"\nframe = "fixed-pointing"\nha = 1\ndec = 2\n'
+    (target,) = parse_targets_toml(text, "t.toml")
+    assert target.frame is Frame.HADEC and target.frame.value == "fixed-pointing" and target.ha_hours == 1.0
+    (error,) = _errors('[[target]]\nname = "A"\nframe = "hadec"\nha = 0\ndec = 2\n')
+    assert error.key == "target[1].frame" and 'frame = "fixed-pointing"' in error.expected
+    assert error.line == 3
+
+
+def test_ecliptic_of_date_is_a_frame_value_as_shown_in_output():
+    # Outputs call such a target's frame "ecliptic-of-date"; the same word must be accepted.
+    text = '[[target]]\nname = "A"\nframe = "ecliptic-of-date"\nlon = 150\nlat = 0.5\n'
+    (target,) = parse_targets_toml(text, "t.toml")
+    (same,) = parse_targets_toml(text.replace('"ecliptic-of-date"', '"ecliptic"\nequinox = "date"'), "t.toml")
+    assert target.frame is Frame.ECLIPTIC_OF_DATE and target == same

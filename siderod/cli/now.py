@@ -213,7 +213,7 @@ def _print_table(sky: Any, config: Any, data: dict[str, Any]) -> None:
         alt = float(sky.alt_deg[i])
         airmass = float(sky.airmass[i])
         usable = alt >= float(sky.min_alt_deg[i])
-        if sky.frames[i] == "hadec":
+        if sky.frames[i] == "fixed-pointing":
             note = "fixed"
         else:
             note = "rising" if sky.rising[i] else "setting"
@@ -269,7 +269,7 @@ def format_target_rows(sky: Any, data: dict[str, Any]) -> bytes:
     name_width = max(14, max(map(len, names), default=0))
     alt = np.asarray(sky.alt_deg, dtype=float)
     airmass = np.asarray(sky.airmass, dtype=float)
-    fixed = np.array([frame == "hadec" for frame in sky.frames], dtype=bool)
+    fixed = np.array([frame == "fixed-pointing" for frame in sky.frames], dtype=bool)
     state = np.where(fixed, 2, np.where(np.asarray(sky.rising, dtype=bool), 0, 1))
     usable = alt >= np.asarray(sky.min_alt_deg, dtype=float)
     sun_up = sky.sun_alt_deg > 0.0

@@ -105,7 +105,7 @@ class Frame(enum.Enum):
     GALACTIC = "galactic"  # l/b, IAU 1958 system as realised in ICRS
     ECLIPTIC = "ecliptic"  # lon/lat, mean ecliptic and equinox of J2000
     ECLIPTIC_OF_DATE = "ecliptic-of-date"  # lon/lat, mean ecliptic and equinox of date
-    HADEC = "hadec"  # a fixed hour angle and declination (a parked transit instrument)
+    HADEC = "fixed-pointing"  # a fixed hour angle and declination (a parked transit instrument)
     BODY = "body"  # a planet, Pluto or the Moon, placed from the JPL ephemeris
     ORBIT = "orbit"  # a comet or asteroid, placed from osculating orbital elements
 

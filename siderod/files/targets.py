@@ -37,8 +37,11 @@ FRAME_CHOICES: Mapping[str, tuple[str, str]] = {
     "icrs": ("ra", "dec"),
     "galactic": ("l", "b"),
     "ecliptic": ("lon", "lat"),
-    "hadec": ("ha", "dec"),
+    "ecliptic-of-date": ("lon", "lat"),  # the same as "ecliptic" with equinox = "date"
+    "fixed-pointing": ("ha", "dec"),
 }
+#: Frame names that were renamed: old spelling -> new one (refused with a message naming it).
+RENAMED_FRAMES: Mapping[str, str] = {"hadec": "fixed-pointing"}
 _COORD_KEYS = {"ra", "dec", "l", "b", "lon", "lat", "ha"}
 _MOTION_KEYS = ("pm_ra", "pm_dec", "parallax", "rv", "epoch")
 #: Every key a ``[[target]]`` table may hold.
@@ -219,8 +222,20 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
     if "body" in entry or "elements" in entry or (ORBIT_KEYS - {"epoch"}) & entry.keys():
         return _moving_target(problems, entry, prefix, before)
     name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
-    frame_text = read_choice(problems, entry, "frame", prefix, tuple(FRAME_CHOICES), default="icrs")
+    if entry.get("frame") in RENAMED_FRAMES:
+        new = RENAMED_FRAMES[entry["frame"]]
+        problems.add(f"{prefix}.frame", show_value(entry["frame"]),
+                     f'frame = "{new}" (the frame of a fixed hour angle and declination was renamed '
+                     f'in siderod 0.1.0: write frame = "{new}"; ha and dec stay as they are)')
+        frame_text = None
+    else:
+        frame_text = read_choice(problems, entry, "frame", prefix, tuple(FRAME_CHOICES), default="icrs")
     equinox = read_choice(problems, entry, "equinox", prefix, ("J2000", "date"), default="J2000")
+    if frame_text == "ecliptic-of-date":
+        frame_text, equinox = "ecliptic", "date"
+        if "equinox" in entry:
+            problems.add(f"{prefix}.equinox", show_value(entry["equinox"]),
+                         'no equinox with frame = "ecliptic-of-date" (it says "date" already)')
     if "equinox" in entry and frame_text not in (None, "ecliptic"):
         problems.add(f"{prefix}.equinox", show_value(entry["equinox"]),
                      'no equinox: it is only used with frame = "ecliptic"')
@@ -323,7 +338,7 @@ def _coordinates(problems: Problems, entry: dict[str, Any], prefix: str,
     if frame_text == "icrs":
         lon = read_angle(problems, entry, "ra", prefix, kind="ra", what="a right ascension")
         lat = read_angle(problems, entry, "dec", prefix, kind="dec", what="a declination")
-    elif frame_text == "hadec":
+    elif frame_text == "fixed-pointing":
         # hour angles: sexagesimal or bare numbers are hours; kept in [-12 h, 12 h]
         lon = None
         if "ha" not in entry:

@@ -17,7 +17,7 @@ Conventions, said once:
 * Sun and Moon events use the standard altitudes of the trade (astro-references §4i) on geometric
   positions whatever the refraction switch says: -0.8333 deg for sunrise/sunset (horizon refraction
   and semidiameter included), -6/-12/-18 deg for the twilights, the Moon's upper limb at -34'.
-* Fixed hour-angle (``hadec``) pointings have a constant altitude: they get no events, only a
+* Fixed hour-angle (``fixed-pointing``) pointings have a constant altitude: they get no events, only a
   window state ("up-whole-window" when usable, else "down-whole-window") and their dark intervals.
 * The window state names what happened in this window only. The trade's "circumpolar" and
   "never rises" depend on latitude, declination and usable altitude alone; they are in

@@ -646,7 +646,7 @@ def _target_rows(inputs: BoardInputs) -> list[_Row]:
         next_seconds = next_event.time_utc.timestamp() - now_unix if next_event is not None else math.inf
         rows.append(_Row(
             name=name, ha_hours=ha_now, dec_deg=dec[i], alt_deg=alt[i], az_deg=az[i], airmass=airmass[i],
-            rising=bool(rising[i]), fixed=sky.frames[i] == "hadec", up=up, muted=muted,
+            rising=bool(rising[i]), fixed=sky.frames[i] == "fixed-pointing", up=up, muted=muted,
             near_sun=sun_up_enough and sun_sep[i] < SUN_CAUTION_SEPARATION_DEG,
             culm_seconds=culm_seconds, culm_usable=culm_usable,
             flip_text=flip_text, flip_style=flip_style, limit_text=limit_text, limit_style=limit_style,
