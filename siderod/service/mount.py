@@ -26,7 +26,7 @@ from datetime import UTC, datetime, timedelta
 from typing import Any
 
 from siderod.common.clock import Clock
-from siderod.common.model import Config, EventKind, MountView, Urgency
+from siderod.common.model import Config, EventKind, Frame, MountView, Urgency
 from siderod.plan.mount import (
     LinkState,
     MountDue,
@@ -515,7 +515,7 @@ class MountWatch:
                 task.add_done_callback(_BACKGROUND.discard)
 
     def _target_places(self) -> tuple[float, tuple[str, ...], Sequence[float], Sequence[float]] | None:
-        targets = [t for t in self.config.targets if t.ra_deg is not None]
+        targets = [t for t in self.config.targets if _on_the_sky(t)]
         if not targets:
             return None
         now_mono = self._clock.monotonic()
@@ -961,7 +961,7 @@ class MountDesk:
         """
         from siderod.plan.positions import compute_sky
 
-        targets = [t for t in config.targets if t.ra_deg is not None]
+        targets = [t for t in config.targets if _on_the_sky(t)]
         order: list[str] = []
         if targets:
             sky = compute_sky(config, self._clock.now_utc().timestamp(), targets=targets)
@@ -988,3 +988,8 @@ class MountDesk:
         if self.watch is None:
             return MountView(in_use=self.in_use, in_use_source=self.in_use_source)
         return self.watch.view(self.in_use, self.in_use_source)
+
+
+def _on_the_sky(target) -> bool:
+    """A target the mount can point at: a catalogue place, or a planet, the Moon, a comet (placed now)."""
+    return target.ra_deg is not None or target.frame in (Frame.BODY, Frame.ORBIT)

@@ -136,3 +136,19 @@ async def test_the_board_key_cycles_through_targets_nearest_the_meridian_then_no
     assert picked == ["near", "east", "west", None]
     assert service.snapshot().mount.in_use is None
     await fakes.stop_service(service, task)
+
+
+@pytest.mark.slow
+async def test_the_board_key_offers_a_planet_too(tmp_path):
+    # A planetary imager's target: Jupiter (placed from the ephemeris) is a candidate like a star.
+    from siderod.common.model import Frame, Target
+    from siderod.files.ephemeris import load_ephemeris
+
+    clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=8))  # 00:00 UTC: Jupiter is up in the east
+    jupiter = Target(name="Jupiter", frame=Frame.BODY, lon_deg=0.0, lat_deg=0.0, ra_deg=None, dec_deg=0.0,
+                     body="jupiter")
+    config = replace(fakes.make_config(targets=()), targets=(jupiter,), ephemeris=load_ephemeris)
+    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    task = await fakes.run_service_until(service, clock, clock.now_utc())
+    assert [await service.cycle_target_in_use() for _ in range(2)] == ["Jupiter", None]
+    await fakes.stop_service(service, task)
