@@ -164,6 +164,8 @@ def write_json(agenda, config, out) -> None:
             c(b', "mark_hours": ', n), tc.decimal_column(part.mark_hours, 5),
             c(b', "usable": ', n), usable[part.usable],
             c(b', "moon_illuminated_fraction": ', n), tc.decimal_column(part.moon_illuminated_fraction, 3),
+            c(b', "beam_source": ', n), names[part.beam_source],
+            c(b', "beam_offset_deg": ', n), tc.decimal_column(part.beam_offset_deg, 3),
             c(b"}", n),
         ])[0 if first else 1:])  # no comma before the first event
     write(b"\n  ],\n")
@@ -359,7 +361,16 @@ def _table_block(part, timezone, widths, targets, kinds, az) -> bytes:
                                   c("°".encode(), n)], axis=1)
     moon_col = np.concatenate([c(b"  ", n), tc.decimal_column(part.moon_illuminated_fraction * 100.0, 0),
                                c(b"% lit", n)], axis=1)
-    note = tc.pick(choice, [tc.text_table(texts)[code], through_col, moon_col])
+    # Beam events: the source and its declination offset from the beam's axis.
+    beam = part.beam_source >= 0
+    choice = np.where(beam, 3, choice)
+    sources = tc.text_table([n.encode() for n in part.names] + [b""])
+    offset = np.nan_to_num(part.beam_offset_deg)
+    beam_col = np.concatenate([c(b"  ", n), sources[part.beam_source], c(b", ", n),
+                               tc.decimal_column(np.abs(offset), 2), c("° ".encode(), n),
+                               tc.text_table([b"N", b"S"])[(offset < 0).astype(np.int64)],
+                               c(b" of the axis", n)], axis=1)
+    note = tc.pick(choice, [tc.text_table(texts)[code], through_col, moon_col, beam_col])
     parts = [c(b" ", n)]
     for (_, align), w, col in zip(_HEADERS, widths, columns, strict=False):
         col = np.where(col == tc.NUL, np.uint8(sp), col)

@@ -56,6 +56,9 @@ def event_note(event) -> str:
     from siderod.common.model import EventKind
 
     kind = event.kind
+    if event.beam_source is not None:
+        offset = round(event.beam_offset_deg or 0.0, 2) + 0.0
+        return f"{event.beam_source} {abs(offset):.2f} deg {'S' if offset < 0 else 'N'} of the axis"
     if kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION):
         return "usable" if event.usable else "below its limit"
     if kind in (EventKind.HOUR_ANGLE, EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT):
@@ -254,7 +257,15 @@ def _note_columns(table) -> np.ndarray:
     thr = np.concatenate([c(b"\\; through ", n), tc.decimal_column(table.threshold_deg, 1), c(b" deg", n)],
                          axis=1)
     choice = np.where(culm, 0, np.where(marks, 1, np.where(moon, 2, np.where(through, 3, 0))))
-    return tc.pick(choice, [fixed[code], ha, lit, thr])
+    # Beam events: the source and its declination offset from the beam's axis.
+    sources = tc.text_table([_escape(name) for name in table.names] + [b""])
+    offset = np.nan_to_num(table.beam_offset_deg)
+    beam = np.concatenate([c(b"\\; ", n), sources[table.beam_source], c(b" ", n),
+                           tc.decimal_column(np.abs(offset), 2), c(b" deg ", n),
+                           tc.text_table([b"N", b"S"])[(offset < 0).astype(np.int64)], c(b" of the axis", n)],
+                          axis=1)
+    choice = np.where(table.beam_source >= 0, 4, choice)
+    return tc.pick(choice, [fixed[code], ha, lit, thr, beam])
 
 
 def _rows(spans, n):

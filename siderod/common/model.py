@@ -38,6 +38,8 @@ __all__ = [
     "MountView",
     "TARGET_EVENT_KINDS",
     "SKY_EVENT_KINDS",
+    "BEAM_EVENT_KINDS",
+    "SUN_SOURCE",
     "COMMAND_PLACEHOLDERS",
 ]
 
@@ -80,6 +82,9 @@ class EventKind(enum.Enum):
     CIVIL_DAWN = "civil-dawn"
     MOONRISE = "moonrise"
     MOONSET = "moonset"
+    BEAM_ENTER = "beam-enter"  # a source enters a fixed pointing's beam (drift scan)
+    BEAM_CENTRE = "beam-centre"  # passes closest to the beam's axis
+    BEAM_LEAVE = "beam-leave"  # leaves the beam
 
 
 TARGET_EVENT_KINDS = frozenset(
@@ -93,8 +98,15 @@ TARGET_EVENT_KINDS = frozenset(
         EventKind.HOUR_ANGLE,
         EventKind.FLIP_DUE,
         EventKind.TRACKING_LIMIT,
+        EventKind.BEAM_ENTER,
+        EventKind.BEAM_CENTRE,
+        EventKind.BEAM_LEAVE,
     }
 )
+#: The drift-scan kinds: their event's ``target`` is the fixed pointing, ``beam_source`` the source.
+BEAM_EVENT_KINDS = frozenset({EventKind.BEAM_ENTER, EventKind.BEAM_CENTRE, EventKind.BEAM_LEAVE})
+#: The name that means the Sun in a pointing's ``sources`` (allowed there only, never as a target).
+SUN_SOURCE = "sun"
 SKY_EVENT_KINDS = frozenset(set(EventKind) - TARGET_EVENT_KINDS)
 
 
@@ -203,6 +215,12 @@ class Target:
     body: str | None = None  # Frame.BODY: "mercury" ... "pluto", "moon"
     orbit: OrbitSpec | None = None  # Frame.ORBIT: the elements
     hour_angles_hours: tuple[float, ...] = ()  # this target's own hour-angle marks (besides [events])
+    # Frame.HADEC only: the beam's full widths at half power along the hour angle and the
+    # declination, degrees (equal for a circular beam; None: no beam), and the names of the targets
+    # (or "sun") whose passages through it are events.
+    beam_ha_deg: float | None = None
+    beam_dec_deg: float | None = None
+    beam_sources: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -363,6 +381,8 @@ class Event:
     usable: bool | None = None
     moon_illuminated_fraction: float | None = None
     sun_separation_deg: float | None = None  # the target's distance from the Sun's centre at the event
+    beam_source: str | None = None  # beam events: the source ("Sun" for the Sun); target is the pointing
+    beam_offset_deg: float | None = None  # beam events: source's Dec minus the axis's, deg, north positive
 
 
 @dataclass(frozen=True, slots=True)

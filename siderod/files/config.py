@@ -20,10 +20,12 @@ from typing import Any
 from siderod.common.errors import ConfigError, ConfigErrors
 from siderod.common.model import (
     COMMAND_PLACEHOLDERS,
+    SUN_SOURCE,
     AlertRules,
     Config,
     EventKind,
     EventSettings,
+    Frame,
     Mount,
     MountKind,
     MountLink,
@@ -836,7 +838,46 @@ def _targets(problems: Problems, data: Mapping[str, Any], base_dir: str,
                 continue
             seen[target.name] = target.source
             targets.append(target)
+    if not any(p.errors for p in per_file):  # a target that failed would show up as "unknown" here
+        _check_beam_sources(targets, {p.path: p for p in per_file})
     return tuple(resolved), per_file, tuple(targets)
+
+
+def _check_beam_sources(targets: list[Target], problems_by_path: Mapping[str, Problems]) -> None:
+    """Each pointing's ``sources`` must name a configured target with a place on the sky, or "sun".
+
+    The Sun is allowed here only: it is a source for a radio dish or horn, never a target (never
+    point unfiltered optics at or near the Sun).
+    """
+    by_name = {t.name: t for t in targets}
+    for target in targets:
+        if not target.beam_sources:
+            continue
+        path, _, line_text = target.source.rpartition(":")
+        problems = problems_by_path.get(path)
+        if problems is None:
+            continue
+        prefix = _table_prefix(problems, int(line_text) if line_text.isdigit() else None)
+        for index, name in enumerate(target.beam_sources, start=1):
+            other = by_name.get(name)
+            if name == SUN_SOURCE or (other is not None and other.frame is not Frame.HADEC):
+                continue
+            if other is not None:
+                expected = "a target with a place on the sky (this one is another fixed pointing)"
+            else:
+                known = ", ".join(sorted(n for n, t in by_name.items() if t.frame is not Frame.HADEC)[:12])
+                expected = f'the name of a configured target or "sun" (known: {known or "none"})'
+            problems.add(f"{prefix}.sources[{index}]", show_value(name), expected)
+
+
+def _table_prefix(problems: Problems, line: int | None) -> str:
+    """``target[i]``, the key path of the [[target]] table that starts on ``line``."""
+    from siderod.files.tomlpos import key_lines
+
+    for key, at in key_lines(problems.text).items():
+        if at == line and key.startswith("target[") and key.endswith("]") and "." not in key:
+            return key
+    return "target"
 
 
 # ---------------------------------------------------------------------------------------------

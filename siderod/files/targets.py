@@ -47,8 +47,10 @@ _MOTION_KEYS = ("pm_ra", "pm_dec", "parallax", "rv", "epoch")
 #: Every key a ``[[target]]`` table may hold.
 TARGET_KEYS = frozenset(
     {"name", "catalogue", "frame", "equinox", "min_altitude", "alerts", "tags", *_COORD_KEYS, *_MOTION_KEYS,
-     "body", "elements", *ORBIT_KEYS, "hour_angles"}
+     "body", "elements", *ORBIT_KEYS, "hour_angles", "beam", "sources"}
 )
+#: A beam's full width at half power is accepted in this range (degrees, exclusive of 0).
+BEAM_WIDTH_RANGE_DEG = (0.0, 180.0)
 #: ``body`` values: the planets, Pluto and the Moon (the Sun is never a target).
 BODY_CHOICES = ("mercury", "venus", "mars", "jupiter", "saturn", "uranus", "neptune", "pluto", "moon")
 #: Lowest usable altitudes are accepted in this range (degrees): a little below the horizon
@@ -256,6 +258,7 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
     alerts_enabled, lead = _alerts(problems, entry, prefix)
     tags = _tags(problems, entry, prefix)
     marks = _hour_angles(problems, entry, prefix)
+    beam = _beam(problems, entry, prefix, frame_text)
     if len(problems.errors) > before or coords is None or name is None or frame_text is None:
         return None
     frame = Frame.ECLIPTIC_OF_DATE if frame_text == "ecliptic" and equinox == "date" else Frame(frame_text)
@@ -265,8 +268,56 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
         name=name, frame=frame, lon_deg=lon_deg, lat_deg=lat_deg, ra_deg=ra_deg, dec_deg=dec_deg,
         ha_hours=ha_hours, min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled,
         source=f"{problems.path}:{problems.line_of(prefix)}", tags=tags,
-        catalogue_entry=looked_up[2] if looked_up else "", hour_angles_hours=marks, **motion,
+        catalogue_entry=looked_up[2] if looked_up else "", hour_angles_hours=marks, **motion, **beam,
     )
+
+
+def _beam(problems: Problems, entry: dict[str, Any], prefix: str, frame_text: str | None) -> dict[str, Any]:
+    """A fixed pointing's ``beam`` (full width at half power, degrees, or ``{ ha = .., dec = .. }``
+    for a fan beam) and ``sources`` (target names, or "sun"); checked here, names in config.py."""
+    if "beam" not in entry and "sources" not in entry:
+        return {}
+    if frame_text != "fixed-pointing":
+        for key in ("beam", "sources"):
+            if key in entry:
+                problems.add(f"{prefix}.{key}", show_value(entry[key]),
+                             f'no {key} here: a beam and its sources belong to a fixed pointing '
+                             '(frame = "fixed-pointing")')
+        return {}
+    low, high = BEAM_WIDTH_RANGE_DEG
+    what = "a full width at half power in degrees"
+    value = entry.get("beam")
+    widths: list[float | None] = [None, None]
+    if value is None:
+        problems.add(f"{prefix}.beam", "nothing (the key is missing)",
+                     "beam = a full width at half power in degrees (or { ha = 6, dec = 1.5 }) for the "
+                     "sources")
+    elif isinstance(value, dict):
+        problems.unknown_keys(value, ("ha", "dec"), f"{prefix}.beam")
+        for k, key in enumerate(("ha", "dec")):
+            if key not in value:
+                problems.add(f"{prefix}.beam.{key}", "nothing (the key is missing)",
+                             f"{key} = the beam's full width along the "
+                             f"{'hour angle' if key == 'ha' else 'declination'}, degrees")
+                continue
+            widths[k] = read_number(problems, value, key, f"{prefix}.beam", low=low, high=high, low_open=True,
+                                    what=what)
+    else:
+        width = read_number(problems, entry, "beam", prefix, low=low, high=high, low_open=True, what=what)
+        widths = [width, width]
+    raw = entry.get("sources", [])
+    names: list[str] = []
+    if not isinstance(raw, list) or not all(isinstance(n, str) and n for n in raw):
+        problems.add(f"{prefix}.sources", show_value(raw),
+                     'a list of target names (or "sun"), like ["Cygnus X", "sun"]')
+    else:
+        for index, item in enumerate(raw, start=1):
+            if item in names:
+                problems.add(f"{prefix}.sources[{index}]", show_value(item), "each source once")
+            names.append(item)
+    if None in widths:
+        return {}
+    return {"beam_ha_deg": widths[0], "beam_dec_deg": widths[1], "beam_sources": tuple(dict.fromkeys(names))}
 
 
 def _hour_angles(problems: Problems, entry: dict[str, Any], prefix: str) -> tuple[float, ...]:
@@ -288,7 +339,8 @@ def _hour_angles(problems: Problems, entry: dict[str, Any], prefix: str) -> tupl
 def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, before: int) -> Target | None:
     """A planet, the Moon (``body``) or a comet/asteroid (``elements`` or explicit element keys)."""
     name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
-    for key in sorted((_COORD_KEYS | {"frame", "equinox", "catalogue", "pm_ra", "pm_dec", "parallax", "rv"})
+    for key in sorted((_COORD_KEYS | {"frame", "equinox", "catalogue", "pm_ra", "pm_dec", "parallax", "rv",
+                       "beam", "sources"})
                       & entry.keys()):
         problems.add(f"{prefix}.{key}", show_value(entry[key]),
                      "no fixed coordinates for a moving target: its place comes from the ephemeris "

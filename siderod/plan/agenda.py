@@ -35,12 +35,22 @@ from functools import cached_property
 import numpy as np
 
 from siderod.astro import events as ev
+from siderod.astro.beams import BEAM_CENTRE, BEAM_ENTER, BEAM_LEAVE, find_beam_events
 from siderod.astro.ephemeris import geocentric_site_rho
 from siderod.astro.places import Observer, hadec_to_altaz
 from siderod.astro.sidereal import FastSidereal
 from siderod.astro.sunmoon import moon_illuminated_fraction, observe_moon, observe_sun, sun_apparent_radec
 from siderod.astro.timescales import instants_from_unix
-from siderod.common.model import Config, Event, EventKind, Frame, MountKind, Target
+from siderod.common.model import (
+    BEAM_EVENT_KINDS,
+    SUN_SOURCE,
+    Config,
+    Event,
+    EventKind,
+    Frame,
+    MountKind,
+    Target,
+)
 from siderod.plan.moving import ephemeris_for, is_moving, moving_places
 from siderod.plan.positions import altitude_limit, observer_for, target_stars
 from siderod.plan.skyclass import SKY_CLASSES, sky_class_codes
@@ -216,10 +226,98 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
         dt, db, de = dt[order], db[order], de[order]
     else:
         dt, db, de = np.zeros(0, dtype=np.int64), np.zeros(0), np.zeros(0)
-    table = EventTable.concat(parts, sky_names).sorted()
+    # Drift scans: each fixed pointing with a beam gets its sources' passages through the beam. The
+    # table's names go on past the sky targets: the pointings, then sources not chosen and the Sun.
+    names = sky_names + [t.name for t in fixed]
+    beam_kinds = wanted & BEAM_EVENT_KINDS
+    for k, pointing in enumerate(fixed):
+        if pointing.beam_ha_deg is not None and pointing.beam_sources and beam_kinds:
+            parts.append(_beam_events(config, observer, pointing, len(sky) + k, names, start_unix, end_unix,
+                                      beam_kinds))
+    table = EventTable.concat(parts, names).sorted()
     return Agenda(start_utc=_utc(start_unix), end_utc=_utc(end_unix), table=table,
                   target_names=tuple(order_names), class_codes=codes, dark_target=dt, dark_begin_unix=db,
                   dark_end_unix=de, sky_codes=_sky_codes(config, chosen, summarised))
+
+
+#: The name beam events give the Sun as a source.
+SUN_NAME = "Sun"
+_BEAM_KIND_CODES = {BEAM_ENTER: EventKind.BEAM_ENTER, BEAM_CENTRE: EventKind.BEAM_CENTRE,
+                    BEAM_LEAVE: EventKind.BEAM_LEAVE}
+
+
+def _beam_events(config: Config, observer, pointing: Target, pointing_index: int, names: list[str],
+                 start_unix: float, end_unix: float, kinds) -> EventTable:
+    """The passages of a pointing's sources through its beam (``names`` grows by sources it lacks).
+
+    Sources with a fixed place, moving ones and the Sun each get one fitted track of apparent
+    topocentric places of date (:func:`siderod.astro.beams.find_beam_events` works on it); the
+    event's altitude, azimuth and hour angle are the source's at that instant.
+    """
+    by_name = {t.name: t for t in config.targets}
+    stars = [by_name[n] for n in pointing.beam_sources
+             if n in by_name and by_name[n].frame is not Frame.HADEC and not is_moving(by_name[n])]
+    moving = [by_name[n] for n in pointing.beam_sources if n in by_name and is_moving(by_name[n])]
+    groups: list[tuple[str, list[str]]] = []
+    if stars:
+        groups.append(("stars", [t.name for t in stars]))
+    if moving:
+        groups.append(("moving", [t.name for t in moving]))
+    if SUN_SOURCE in pointing.beam_sources:
+        groups.append(("sun", [SUN_NAME]))
+    lat = config.site.latitude_deg
+    lon = config.site.longitude_deg
+    dut1 = config.time.dut1_seconds
+    position = {name: i for i, name in enumerate(names)}
+    half_ha = 0.5 * float(pointing.beam_ha_deg)
+    half_dec = 0.5 * float(pointing.beam_dec_deg)
+    out: list[EventTable] = []
+    piece_start = start_unix
+    while piece_start < end_unix - ev.EDGE_TOLERANCE_SECONDS:
+        piece_end = min(end_unix, piece_start + CHUNK_HOURS * 3600.0)
+        sidereal = FastSidereal(piece_start - 600.0, piece_end + 600.0, dut1_seconds=dut1)
+
+        def last(unix, _s=sidereal):
+            return _s.last_hours(unix, lon)
+
+        for what, members in groups:
+            if what == "stars":
+                mid = float(instants_from_unix(0.5 * (piece_start + piece_end), dut1_seconds=dut1).jd_tt)
+                track = ev.build_track(target_stars(stars, mid), piece_start, piece_end, dut1_seconds=dut1)
+            elif what == "moving":
+                track = _moving_track(config, observer, moving, piece_start, piece_end)
+            else:
+                track = _sun_track(observer, piece_start, piece_end, dut1)
+            idx, times, code, offset = find_beam_events(
+                track, last, lat, float(pointing.ha_hours), float(pointing.dec_deg), half_ha, piece_start,
+                piece_end, half_width_dec_deg=None if half_dec == half_ha else half_dec)
+            kind = np.array([KIND_CODES[_BEAM_KIND_CODES[int(c)]] for c in code.tolist()], dtype=np.int8)
+            keep = np.isin(kind, [KIND_CODES[k] for k in kinds])
+            idx, times, kind, offset = idx[keep], times[keep], kind[keep], offset[keep]
+            if idx.size == 0:
+                continue
+            alt_geo, az, ha = ev.target_altaz(track, last, lat, times, idx)
+            _, dec = track.radec_at(times, idx)
+            for name in members:
+                if name not in position:
+                    position[name] = len(names)
+                    names.append(name)
+            source = np.array([position[n] for n in members], dtype=np.int32)[idx]
+            out.append(EventTable.build(
+                names, times, kind, target=pointing_index, altitude_deg=alt_geo, azimuth_deg=az,
+                hour_angle_hours=ev.observed_hour_angle_hours(ha, dec, lat), beam_source=source,
+                beam_offset_deg=offset))
+        piece_start = piece_end
+    return EventTable.concat(out, names) if out else EventTable.empty(names)
+
+
+def _sun_track(observer, start_unix, end_unix, dut1):
+    """The Sun's apparent place as a fitted track (a radio source for a fixed pointing only)."""
+    sample = ev.moving_sample_unix(start_unix, end_unix)
+    ra, dec, distance_au = sun_apparent_radec(instants_from_unix(sample, dut1_seconds=dut1))
+    xyz = np.array(_unit(ra, dec))[:, :, None]
+    distance = np.asarray(distance_au)[:, None]
+    return ev.track_from_apparent(sample, xyz, distance, geocentric_site_rho(observer))
 
 
 def _sky_codes(config: Config, chosen, summarised) -> tuple[int, ...]:
@@ -254,6 +352,8 @@ def event_to_json(event: Event) -> dict:
         "mark_hours": _round(event.mark_hours, 5),
         "usable": event.usable,
         "moon_illuminated_fraction": _round(event.moon_illuminated_fraction, 3),
+        "beam_source": event.beam_source,
+        "beam_offset_deg": _round(event.beam_offset_deg, 3),
     }
 
 

@@ -13,6 +13,7 @@ from typing import Protocol
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
 from siderod.common.model import (
+    BEAM_EVENT_KINDS,
     AlertRules,
     Config,
     Event,
@@ -71,9 +72,10 @@ def held_kinds(rules: AlertRules) -> tuple[EventKind, ...]:
     if rules.hold_kinds is not None:
         chosen = set(rules.hold_kinds)
         return tuple(kind for kind in EventKind if kind in chosen and kind not in SKY_KINDS)
+    # Drift scans run by day as well (the Sun is a radio source): beam events are held only when named.
     return tuple(
         kind for kind in EventKind
-        if kind not in SKY_KINDS
+        if kind not in SKY_KINDS and kind not in BEAM_EVENT_KINDS
         and rules.urgency.get(kind, DEFAULT_URGENCY.get(kind, Urgency.NORMAL)) is not Urgency.CRITICAL
     )
 
@@ -308,6 +310,7 @@ def format_alert(event: Event, lead_minutes: float, site: Site) -> tuple[str, st
         target=event.target or "",
         threshold=_format_deg(event.threshold_deg),
         mark=_format_hour_angle(event.mark_hours),
+        source=event.beam_source or "",
     )
     if lead_minutes > 0:
         title = f"{what} in {_format_lead(lead_minutes)} min"
@@ -324,6 +327,11 @@ def format_alert(event: Event, lead_minutes: float, site: Site) -> tuple[str, st
         lines.append("Advisory only: the mount's own limits must be set.")
     if event.kind is EventKind.SUNRISE:
         lines.append("Cover or park unfiltered optics before the Sun is up.")
+    if event.beam_offset_deg is not None:
+        side = "south" if event.beam_offset_deg < 0 else "north"
+        lines.append(f"Passes {abs(event.beam_offset_deg):.2f}° {side} of the beam's axis.")
+    if event.beam_source == "Sun":
+        lines.append("The Sun is a radio source here: never point unfiltered optics at or near the Sun.")
     if event.target is not None and event.sun_separation_deg is not None \
             and event.sun_separation_deg < SUN_CAUTION_DEG:
         lines.append(f"Caution: {event.sun_separation_deg:.0f}° from the Sun. Never point unfiltered "
@@ -426,6 +434,9 @@ _EVENT_PHRASES: Mapping[EventKind, str] = {
     EventKind.CIVIL_DAWN: "Civil dawn",
     EventKind.MOONRISE: "Moonrise",
     EventKind.MOONSET: "Moonset",
+    EventKind.BEAM_ENTER: "{source} enters the beam of {target}",
+    EventKind.BEAM_CENTRE: "{source} centres in the beam of {target}",
+    EventKind.BEAM_LEAVE: "{source} leaves the beam of {target}",
 }
 
 _SUMMARY_LINES = 12  # titles listed in a missed-alert summary before "... and N more"

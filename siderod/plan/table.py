@@ -30,7 +30,7 @@ KIND_CODES = {kind: code for code, kind in enumerate(KINDS)}
 
 _EPOCH = datetime(1970, 1, 1, tzinfo=UTC)
 _FLOAT_COLUMNS = ("time_unix", "altitude_deg", "azimuth_deg", "hour_angle_hours", "threshold_deg",
-                  "mark_hours", "moon_illuminated_fraction", "sun_separation_deg")
+                  "mark_hours", "moon_illuminated_fraction", "sun_separation_deg", "beam_offset_deg")
 
 
 def utc_from_unix(unix_seconds: float) -> datetime:
@@ -50,7 +50,9 @@ class EventTable:
         hour_angle_hours, threshold_deg, mark_hours, moon_illuminated_fraction,
             sun_separation_deg: float64, NaN where they do not apply.
         usable: 1, 0, or -1 where it does not apply (int8).
-        names: target names that ``target`` indexes.
+        beam_source: beam events: index into ``names`` of the source (int32), -1 elsewhere.
+        beam_offset_deg: beam events: the source's declination minus the axis's, degrees (NaN elsewhere).
+        names: target names that ``target`` and ``beam_source`` index.
     """
 
     time_unix: np.ndarray
@@ -64,13 +66,16 @@ class EventTable:
     usable: np.ndarray
     moon_illuminated_fraction: np.ndarray
     sun_separation_deg: np.ndarray
+    beam_source: np.ndarray
+    beam_offset_deg: np.ndarray
     names: tuple[str, ...] = ()
 
     # -- building ------------------------------------------------------------------------------
     @classmethod
     def build(cls, names: Sequence[str], time_unix, kind, *, target=None, altitude_deg, azimuth_deg,
               hour_angle_hours=None, threshold_deg=None, mark_hours=None, usable=None,
-              moon_illuminated_fraction=None, sun_separation_deg=None) -> EventTable:
+              moon_illuminated_fraction=None, sun_separation_deg=None, beam_source=None,
+              beam_offset_deg=None) -> EventTable:
         """Columns from arrays or scalars (scalars are broadcast; None means absent)."""
         t = np.asarray(time_unix, dtype=float).reshape(-1)
         n = t.size
@@ -86,7 +91,10 @@ class EventTable:
                    threshold_deg=col(threshold_deg, float, np.nan), mark_hours=col(mark_hours, float, np.nan),
                    usable=col(usable, np.int8, -1),
                    moon_illuminated_fraction=col(moon_illuminated_fraction, float, np.nan),
-                   sun_separation_deg=col(sun_separation_deg, float, np.nan), names=tuple(names))
+                   sun_separation_deg=col(sun_separation_deg, float, np.nan),
+                   beam_source=col(beam_source, np.int32, -1),
+                   beam_offset_deg=col(beam_offset_deg, float, np.nan),
+                   names=tuple(names))
 
     @classmethod
     def empty(cls, names: Sequence[str] = ()) -> EventTable:
@@ -107,6 +115,8 @@ class EventTable:
         events = list(events)
         names: dict[str, int] = {}
         target = [-1 if e.target is None else names.setdefault(e.target, len(names)) for e in events]
+        source = [-1 if e.beam_source is None else names.setdefault(e.beam_source, len(names))
+                  for e in events]
 
         def floats(attr):
             return np.array([np.nan if getattr(e, attr) is None else getattr(e, attr) for e in events],
@@ -121,7 +131,9 @@ class EventTable:
                    usable=np.array([-1 if e.usable is None else int(e.usable) for e in events],
                                    dtype=np.int8),
                    moon_illuminated_fraction=floats("moon_illuminated_fraction"),
-                   sun_separation_deg=floats("sun_separation_deg"), names=tuple(names))
+                   sun_separation_deg=floats("sun_separation_deg"),
+                   beam_source=np.array(source, dtype=np.int32), beam_offset_deg=floats("beam_offset_deg"),
+                   names=tuple(names))
 
     # -- reading -------------------------------------------------------------------------------
     def __len__(self) -> int:
@@ -171,17 +183,19 @@ class EventTable:
         return [
             Event(time_utc=utc_from_unix(t), kind=KINDS[k], target=names[j], altitude_deg=a, azimuth_deg=z,
                   hour_angle_hours=h, threshold_deg=th, mark_hours=m, usable=u, moon_illuminated_fraction=f,
-                  sun_separation_deg=sep)
-            for t, k, j, a, z, h, th, m, u, f, sep in zip(
+                  sun_separation_deg=sep, beam_source=names[b], beam_offset_deg=off)
+            for t, k, j, a, z, h, th, m, u, f, sep, b, off in zip(
                 self.time_unix[rows].tolist(), self.kind[rows].tolist(), self.target[rows].tolist(),
                 lists["altitude_deg"], lists["azimuth_deg"], lists["hour_angle_hours"],
                 lists["threshold_deg"], lists["mark_hours"], usable, lists["moon_illuminated_fraction"],
-                lists["sun_separation_deg"], strict=True)
+                lists["sun_separation_deg"], self.beam_source[rows].tolist(), lists["beam_offset_deg"],
+                strict=True)
         ]
 
 
 _COLUMNS = ("time_unix", "kind", "target", "altitude_deg", "azimuth_deg", "hour_angle_hours", "threshold_deg",
-            "mark_hours", "usable", "moon_illuminated_fraction", "sun_separation_deg")
+            "mark_hours", "usable", "moon_illuminated_fraction", "sun_separation_deg", "beam_source",
+            "beam_offset_deg")
 
 
 def _optional(values: np.ndarray) -> list[float | None]:

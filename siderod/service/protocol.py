@@ -555,6 +555,8 @@ def _alert_to_json(alert: PlannedAlert) -> dict[str, Any]:
             "mark_hours": _num(e.mark_hours),
             "usable": e.usable,
             "moon_illuminated_fraction": _num(e.moon_illuminated_fraction),
+            "beam_source": e.beam_source,
+            "beam_offset_deg": _num(e.beam_offset_deg),
         },
     }
 
@@ -572,6 +574,8 @@ def _alert_from_json(r: _Reader) -> PlannedAlert:
         mark_hours=e.number("mark_hours", optional=True),
         usable=e.flag("usable", optional=True),
         moon_illuminated_fraction=e.number("moon_illuminated_fraction", optional=True),
+        beam_source=e.text("beam_source", optional=True),
+        beam_offset_deg=e.number("beam_offset_deg", optional=True),
     )
     return PlannedAlert(
         key=r.text("key"),

@@ -15,7 +15,7 @@ def test_demo_summary(capsys, demo_config_path):
     out, _ = capsys.readouterr()
     assert code == 0
     assert "Corrie Hill Observatory" in out
-    assert ("targets: 19 (11 icrs, 2 galactic, 1 ecliptic, 1 ecliptic-of-date, 1 fixed-pointing, 2 body, "
+    assert ("targets: 20 (11 icrs, 2 galactic, 1 ecliptic, 1 ecliptic-of-date, 2 fixed-pointing, 2 body, "
             "1 orbit)" in out)
     assert "flip-due: 10, 0 (critical)" in out
     assert "mount's own limits always win" in out
