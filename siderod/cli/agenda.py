@@ -53,7 +53,7 @@ def run(args: argparse.Namespace) -> int:
             start_utc = parse_iso_datetime(args.start)
         except ValueError as exc:
             print(f"siderod agenda: --from: {exc}", file=sys.stderr)
-            return 1
+            return _EXIT_USAGE
     else:
         from siderod.common.clock import SystemClock
 
@@ -61,7 +61,7 @@ def run(args: argparse.Namespace) -> int:
     if args.hours is not None and not args.hours > 0:
         print(f"siderod agenda: --hours: expected a positive number of hours, got {args.hours:g}",
               file=sys.stderr)
-        return 1
+        return _EXIT_USAGE
     if args.hours is not None and not args.hours <= MAX_HOURS:
         # Without a cap, --hours 100000 ran for 8 minutes and took 4 GB before printing anything.
         print(f"siderod agenda: --hours: at most {MAX_HOURS:g} hours (10 days), the same limit as "
@@ -70,13 +70,19 @@ def run(args: argparse.Namespace) -> int:
         return _EXIT_USAGE
     kinds = None
     if args.kind:
+        import difflib
+
         valid = {k.value: k for k in EventKind}
-        bad = [k for k in args.kind if k not in valid]
+        given = [k.strip().lower() for k in args.kind]  # Culmination and culmination alike
+        bad = [k for k in given if k not in valid]
         if bad:
-            print(f"siderod agenda: --kind: unknown kind {', '.join(repr(b) for b in bad)}; choose from: "
-                  + ", ".join(valid), file=sys.stderr)
-            return 1
-        kinds = {valid[k] for k in args.kind}
+            close = difflib.get_close_matches(bad[0], list(valid), n=1, cutoff=0.6)
+            hint = f' -- did you mean "{close[0]}"?' if close else ""
+            unknown = ", ".join(repr(b) for b in bad)
+            print(f"siderod agenda: --kind: unknown kind {unknown}{hint}; choose from: " + ", ".join(valid),
+                  file=sys.stderr)
+            return _EXIT_USAGE
+        kinds = {valid[k] for k in given}
 
     config = load_config(getattr(args, "config", None), os.environ, at_unix=start_utc.timestamp())
     if config.is_demo and not args.json:

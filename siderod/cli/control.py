@@ -32,6 +32,8 @@ EXIT_REFUSED = EXIT_BAD_INPUT
 _TIMEOUT_SECONDS = {"status": 3.0, "mute": 3.0, "unmute": 3.0, "reload": 20.0, "test-alert": 60.0,
                     "ack": 20.0, "use": 20.0}
 
+#: The longest timed mute (the service's own limit, siderod.service.protocol): one year.
+_MAX_MUTE_SECONDS = 365 * 86400
 _DURATION_RE = re.compile(r"(?:(\d+)d)?(?:(\d+)h)?(?:(\d+)m)?(?:(\d+)s)?")
 
 
@@ -128,6 +130,8 @@ def parse_duration_seconds(text: str) -> float:
         ValueError: with the accepted forms, for anything else.
     """
     cleaned = text.strip().lower().replace(" ", "")
+    if cleaned.startswith("-"):
+        raise ValueError(f"a duration cannot be negative, got {text!r}; e.g. 90m, 2h, 1h30m or 1d")
     match = _DURATION_RE.fullmatch(cleaned)
     if not cleaned or match is None or not any(match.groups()):
         raise ValueError(f"expected a duration like 90m, 2h, 1h30m or 1d (units d, h, m, s), got {text!r}")
@@ -135,6 +139,9 @@ def parse_duration_seconds(text: str) -> float:
     total = ((days * 24 + hours) * 60 + minutes) * 60 + seconds
     if total <= 0:
         raise ValueError(f"a mute lasts more than 0 s; got {text!r} (leave out --for to mute until unmuted)")
+    if total > _MAX_MUTE_SECONDS:
+        raise ValueError(f"a timed mute lasts at most 365 days, got {text!r} (leave out --for to mute "
+                         "until unmuted)")
     return float(total)
 
 

@@ -59,7 +59,7 @@ _VERB_MODULES = (
 def main(argv: Sequence[str] | None = None) -> int:
     """Run one ``siderod`` command line and return its exit code."""
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args = parser.parse_args(_join_dashed_values(sys.argv[1:] if argv is None else list(argv)))
     if not hasattr(args, "func"):
         parser.print_help(sys.stderr)
         return EXIT_USAGE
@@ -88,6 +88,22 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_OK
     except KeyboardInterrupt:
         return 130
+
+
+def _join_dashed_values(argv: list[str]) -> list[str]:
+    # argparse reads "--for -5m" as a missing value followed by an unknown option and says only
+    # "expected one argument"; joined as "--for=-5m" the value reaches its own check, which says
+    # what is wrong with it.
+    out: list[str] = []
+    for word in argv:
+        if out and out[-1] in _VALUE_OPTIONS and word.startswith("-") and not word.startswith("--"):
+            out[-1] = f"{out[-1]}={word}"
+        else:
+            out.append(word)
+    return out
+
+
+_VALUE_OPTIONS = frozenset({"--for", "--hours", "--hz"})
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -48,7 +48,7 @@ def run(args: argparse.Namespace) -> int:
             unix_seconds = unix_from_datetime(parse_iso_datetime(args.at))
         except ValueError as exc:
             print(f"siderod now: --at: {exc}", file=sys.stderr)
-            return 1
+            return 2  # a malformed command line (siderod.cli.main.EXIT_USAGE)
     else:
         from siderod.common.clock import SystemClock
 

@@ -7,7 +7,7 @@ import os
 import sys
 from typing import Any
 
-from siderod.cli.main import EXIT_BAD_INPUT, EXIT_OK, EXIT_USAGE
+from siderod.cli.main import EXIT_OK, EXIT_USAGE
 
 __all__ = ["register", "run"]
 
@@ -70,7 +70,7 @@ def _print_once(args: argparse.Namespace, console: Any) -> int:
             now_utc = parse_iso_datetime(args.at).astimezone(UTC)
         except ValueError as exc:
             print(f"siderod watch: --at: {exc}", file=sys.stderr)
-            return EXIT_BAD_INPUT
+            return EXIT_USAGE
         source = "computed here for --at"
     else:
         now_utc = SystemClock().now_utc()  # the one read of the wall clock

@@ -414,8 +414,14 @@ def _choose_targets(all_targets: tuple[Target, ...], names: Collection[str] | No
     by_name = {t.name: t for t in all_targets}
     unknown = [n for n in names if n not in by_name]
     if unknown:
-        known = ", ".join(sorted(by_name)) or "(none configured)"
-        raise ValueError(f"unknown target {', '.join(repr(n) for n in unknown)}; configured targets: {known}")
+        import difflib
+
+        close = difflib.get_close_matches(unknown[0], list(by_name), n=1, cutoff=0.6)
+        hint = f' -- did you mean "{close[0]}"?' if close else ""
+        shown = sorted(by_name)
+        known = ", ".join(shown[:20]) + (f" and {len(shown) - 20} more" if len(shown) > 20 else "")
+        raise ValueError(f"unknown target {', '.join(repr(n) for n in unknown)}{hint}; configured targets: "
+                         f"{known or '(none configured)'}")
     wanted = set(names)
     return [t for t in all_targets if t.name in wanted]
 

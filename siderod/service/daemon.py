@@ -325,6 +325,8 @@ class Service:
             return {"target": target, "until_utc": None if until_utc is None else _iso(until_utc)}
         if op == "unmute":
             target = str(request.target)
+            if target not in self._mutes:
+                self._known_target(target)  # a name that is neither muted nor configured: refused
             was_muted = await self.unmute(target)
             return {"target": target, "was_muted": was_muted}
         if op == "reload":
@@ -1072,9 +1074,13 @@ class Service:
         names = [t.name for t in self.config.targets]
         if name in names or name == SKY_TARGET_NAME:
             return str(name)
+        import difflib
+
+        close = difflib.get_close_matches(str(name), names, n=1, cutoff=0.6)
+        hint = f' -- did you mean "{close[0]}"?' if close else ""
         shown = ", ".join(names[:10]) + (" ..." if len(names) > 10 else "")
         raise ControlError(
-            f"no target named {name!r} in {self.config.path}; use a target name ({shown}) or"
+            f"no target named {name!r} in {self.config.path}{hint}; use a target name ({shown}) or"
             f" {SKY_TARGET_NAME!r} for Sun, Moon and twilight alerts"
         )
 

@@ -69,8 +69,8 @@ def test_filters_by_target_and_kind(capsys):
     (["--kind", "transit"], "unknown kind 'transit'"),
     (["--hours", "-2"], "--hours"),
 ])
-def test_bad_input_exits_1_with_a_message(argv, message, capsys):
-    assert main(["agenda", *argv]) == 1
+def test_a_bad_option_value_exits_2_with_a_message(argv, message, capsys):
+    assert main(["agenda", *argv]) == 2  # a malformed command line (one rule, issue 13 item 15)
     assert message in capsys.readouterr().err
 
 

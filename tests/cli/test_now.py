@@ -92,7 +92,7 @@ def test_past_the_leap_table_a_warning_is_printed(capsys, demo_config_path):
 def test_bad_instant_is_a_usage_problem(capsys, demo_config_path):
     code = main(["now", "--at", "2026-12-14 23:00", "--config", str(demo_config_path)])
     _, err = capsys.readouterr()
-    assert code == 1 and "--at" in err
+    assert code == 2 and "--at" in err  # a malformed command line
 
 
 def test_table_lists_every_target(capsys, demo_config, demo_config_path):

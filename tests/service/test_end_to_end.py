@@ -232,6 +232,12 @@ def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanl
         assert done.returncode == 0, done.stderr
         assert "from the service" in done.stdout, done.stdout
         assert "Corrie Hill Observatory" in done.stdout
+        # unmute of a name that is neither muted nor configured is refused (it exited 0), and a
+        # near miss gets a "did you mean" (issue 13, item 15).
+        done = siderod(env, "unmute", "Nothing")
+        assert done.returncode == 1 and "no target named 'Nothing'" in done.stderr, done.stderr
+        done = siderod(env, "mute", "Betelguese")
+        assert done.returncode == 1 and 'did you mean "Betelgeuse"' in done.stderr, done.stderr
         # Naming the service's own file is no mix; naming another one must never put that file's
         # targets beside the service's alerts without a word (issue 13, item 10).
         done = siderod(env, "watch", "--once", "--config", str(config))
