@@ -27,7 +27,7 @@ import logging
 import os
 import signal
 import sqlite3
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import replace
 from datetime import UTC, datetime, timedelta
 from typing import Any
@@ -356,7 +356,7 @@ class Service:
         # The plan dict is in due order (see _compute_plan) and only loses entries, so its first
         # items are the next alerts: no sort of a 100,000-alert plan on every status.
         ahead = itertools.dropwhile(lambda a: a.due_utc < now_utc, self._plan.values())
-        upcoming = list(itertools.islice(ahead, SNAPSHOT_ALERTS))
+        upcoming = list(itertools.islice(_first_repeat_only(ahead), SNAPSHOT_ALERTS))
         try:
             counts = self._ledger.counts()
             recent = self._ledger.recent_deliveries(SNAPSHOT_ALERTS)
@@ -1116,6 +1116,19 @@ def _index_plan(planned: Sequence[PlannedAlert], open_keys: frozenset[str]) -> _
 
 
 _SUMMARY = "\x00summary"  # queue marker: send the missed-alert summary once the queue drains
+
+
+def _first_repeat_only(alerts: Iterable[PlannedAlert]) -> Iterator[PlannedAlert]:
+    """``alerts`` without the repeats of an event already listed: a critical event's repeats
+    are planned far ahead (until acknowledged), and would otherwise crowd every other alert out
+    of "next alerts". Its next repeat is listed; the count of planned alerts keeps them all."""
+    listed: set[str] = set()
+    for alert in alerts:
+        event = event_id(alert.key)
+        if alert.repeat_number and event in listed:
+            continue
+        listed.add(event)
+        yield alert
 
 
 def _message_from_row(row: LedgerRow) -> AlertMessage:

@@ -188,7 +188,11 @@ async def test_critical_alerts_repeat_until_acknowledged_across_a_restart(tmp_pa
         assert _titles(http.delivered()) == [
             "M42: meridian flip due now", "M42: meridian flip due now (repeat 1)",
             "M42: meridian flip due now (repeat 2)"]
-        assert service.snapshot().awaiting_ack == ("M42|flip-due|2026-12-14T16:05:00Z",)
+        snapshot = service.snapshot()
+        assert snapshot.awaiting_ack == ("M42|flip-due|2026-12-14T16:05:00Z",)
+        # "next alerts" lists the flip's next repeat, not all of them, then the limit.
+        assert [a.title for a in snapshot.next_alerts] == [
+            "M42: meridian flip due now (repeat 3)", "M42: tracking limit now"]
         reply = await service.handle_request(Request(op="ack"))
         assert reply == {"acknowledged": ["M42|flip-due|2026-12-14T16:05:00Z"]}
         assert await service.handle_request(Request(op="ack")) == {"acknowledged": []}
