@@ -295,8 +295,11 @@ def format_table_rows(table, timezone: str):
     for j in present.tolist():
         target_texts[j] = table.names[j].ljust(name_width).encode()
     targets = tc.text_table(target_texts, pad=tc.SPACE)
-    kind_width = max((len(KINDS[k].value) for k in np.unique(table.kind).tolist()), default=0)
-    kinds = tc.text_table([k.value.ljust(kind_width).encode() for k in KINDS], pad=tc.SPACE)
+    present_kinds = np.unique(table.kind).tolist()
+    kind_width = max((len(KINDS[k].value) for k in present_kinds), default=0)
+    # Only the kinds in the table are padded: a longer absent kind would widen the column past the header's.
+    kinds = tc.text_table([k.value.ljust(kind_width).encode() if code in present_kinds else b""
+                           for code, k in enumerate(KINDS)], pad=tc.SPACE)
 
     def span(values, decimals, plus=False):
         finite = values[np.isfinite(values)]

@@ -181,3 +181,17 @@ def test_no_output_calls_a_window_state_circumpolar(capsys, demo_config_path):
     circumpolar = [line for line in out.splitlines() if "ircumpolar" in line]
     assert circumpolar and all(line.startswith("Circumpolar here") for line in circumpolar)
     assert "M45" not in circumpolar[0]
+
+
+def test_header_columns_line_up_with_the_rows_when_only_short_kinds_are_shown(capsys):
+    # Found on the README's second example: with only short kinds (no 17-letter kind in the window)
+    # the header's Target column started 6 characters left of the rows' target names.
+    assert main(["agenda", "--from", DEMO_FROM, "--target", "Jupiter", "--kind", "culmination",
+                 "--kind", "rise", "--kind", "set"]) == 0
+    out = capsys.readouterr().out
+    header = next(line for line in out.splitlines() if "Event" in line and "Target" in line)
+    rows = _event_lines(out)
+    assert rows
+    for row in rows:
+        assert row.index("Jupiter") == header.index("Target")
+        assert row[:header.index("Target")].rstrip().split()[-1] in ("culmination", "rise", "set")
