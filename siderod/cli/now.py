@@ -84,12 +84,15 @@ def sky_to_json(sky: Any, config: Any, *, leap_until: str) -> dict[str, Any]:
     from siderod.astro.timescales import format_iso_utc
 
     site = config.site
+    # The sky is computed for config.targets in file order (compute_sky); names are unique.
+    entries = {t.name: t.catalogue_entry for t in config.targets}
     targets = []
     for i, name in enumerate(sky.names):
         airmass = float(sky.airmass[i])
         targets.append({
             "name": name,
             "frame": sky.frames[i],
+            "catalogue_entry": entries.get(name) or None,
             "ra_hours": float(sky.ra_hours[i]),
             "dec_deg": float(sky.dec_deg[i]),
             "hour_angle_hours": float(sky.ha_hours[i]),

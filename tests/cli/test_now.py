@@ -78,6 +78,16 @@ def test_one_demo_star_matches_atco13_with_refraction(capsys, demo_config, demo_
     assert abs(capella["azimuth_deg"] - math.degrees(aob)) * math.cos(math.radians(alt)) < AZ_TOL_DEG
 
 
+def test_json_names_the_catalogue_entry_of_catalogue_named_targets(capsys, demo_config_path):
+    # The demo's first five targets are placed from the deep-sky catalogue (see demo-targets.toml);
+    # the others give their coordinates, so they have no catalogue entry.
+    data, _ = _now_json(capsys, "--config", str(demo_config_path))
+    entries = {t["name"]: t["catalogue_entry"] for t in data["targets"]}
+    assert entries["M42"] == "M 42" and entries["North America"] == "NGC 7000"
+    assert entries["Crab Nebula"] == "M 1"
+    assert entries["Vega"] is None and entries["Jupiter"] is None and entries["Drift scan +41"] is None
+
+
 def test_bundled_demo_is_announced_on_stderr(capsys):
     data, err = _now_json(capsys)  # conftest points XDG at empty directories
     assert "bundled demo" in err and data["site"]["name"] == "Corrie Hill Observatory"
