@@ -18,7 +18,6 @@ The automatic acknowledgement of a flip alert when the pier side changes is an e
 from __future__ import annotations
 
 import asyncio
-import contextlib
 import logging
 from collections.abc import Awaitable, Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
@@ -630,10 +629,11 @@ class IndiLink:
             client.shutdown()
             try:
                 await asyncio.wait_for(asyncio.shield(task), 2.0)
+            except asyncio.CancelledError:
+                task.cancel()  # we are being stopped: do not wait for the client
+                raise
             except (TimeoutError, Exception):
-                task.cancel()
-                with contextlib.suppress(asyncio.CancelledError, Exception):
-                    await task
+                await _cancel_and_wait(task)
 
     # -- called by the client -----------------------------------------------------------------
     def on_vector(self, device: str, name: str, state: str | None, values: Mapping[str, str],
@@ -792,11 +792,27 @@ async def _wait_event_or_sleep(event: asyncio.Event, clock: Clock, seconds: floa
         await asyncio.wait({waiter, sleeper}, return_when=asyncio.FIRST_COMPLETED)
     finally:
         for task in (waiter, sleeper):
-            if not task.done():
-                task.cancel()
-                with contextlib.suppress(asyncio.CancelledError):
-                    await task
+            await _cancel_and_wait(task)
     return event.is_set()
+
+
+async def _cancel_and_wait(task: asyncio.Future[Any]) -> None:
+    """Cancel ``task`` and wait for it to end, without swallowing a cancellation of our own.
+
+    A bare ``suppress(CancelledError)`` around the wait would also swallow the cancellation of
+    the *calling* task if it arrives meanwhile, and a loop around it would then never stop.
+    """
+    if task.done():
+        return
+    task.cancel()
+    try:
+        await task
+    except asyncio.CancelledError:
+        current = asyncio.current_task()
+        if current is not None and current.cancelling():
+            raise
+    except Exception:
+        log.debug("a cancelled helper task failed", exc_info=True)
 
 
 def _number(text: str | None) -> float | None:
@@ -904,9 +920,7 @@ class MountDesk:
             try:
                 await self._restart_link.wait()
             finally:
-                task.cancel()
-                with contextlib.suppress(asyncio.CancelledError):
-                    await task
+                await _cancel_and_wait(task)
 
     async def _dawn_loop(self) -> None:
         while True:
