@@ -1,0 +1,182 @@
+"""Benchmark: the commands people run on big catalogues, whole process, against the record-by-record way.
+
+Run:  python tests/benchmarks/bench_commands.py [--targets 100000] [--now-targets 10000] [--skip-previous]
+
+Each case is a fresh interpreter, timed from start to exit, with its peak resident memory (from
+``wait4``); output goes to a file. The catalogue is invented (random RA/Dec, a fixed seed), watched from
+the demo site with the demo's horizon profile, mount and every event kind, over the demo night.
+
+The "previous approach" of each case runs the same computation the way the commands did before the
+events were kept as columns: one ``Event`` record per event and ``event_to_json`` per record, written
+with ``json.dump(indent=2)``; a rich table of every row; one icalendar component per event (the
+library's own writer). Its ratio is printed beside each case. Aims (issue 8): agenda --json for 1e5
+targets <= 2.5 s and <= 400 MB; the table and --ics no slower than --json; `now` for 10,000 targets
+<= 1 s as JSON and as a piped table.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import pathlib
+import random
+import subprocess
+import sys
+import tempfile
+import time
+
+ROOT = pathlib.Path(__file__).resolve().parents[2]
+DEMO = ROOT / "siderod" / "demo"
+FROM = "2026-12-14T12:00:00Z"
+
+
+def make_catalogue(folder: pathlib.Path, count: int) -> pathlib.Path:
+    """The demo configuration with ``count`` random targets in a CSV file; returns the config path."""
+    rng = random.Random(20261214)
+    rows = ["name,ra,dec"] + [f"T{i:06d},{rng.uniform(0, 360):.5f}d,{rng.uniform(-89, 89):.4f}"
+                              for i in range(count)]
+    (folder / "targets.csv").write_text("\n".join(rows) + "\n")
+    text = (DEMO / "demo.toml").read_text()
+    text = text.replace('files = ["demo-targets.toml"]', 'files = ["targets.csv"]')
+    text = text.replace('dut1 = "iers"', "dut1 = 0.1")
+    (folder / "config.toml").write_text(text)
+    return folder / "config.toml"
+
+
+def make_toml_catalogue(folder: pathlib.Path, count: int) -> pathlib.Path:
+    """The demo configuration with ``count`` random ``[[target]]`` tables; returns the config path."""
+    rng = random.Random(20261214)
+    tables = [f'[[target]]\nname = "T{i:06d}"\nra = "{rng.uniform(0, 24):.5f}h"\n'
+              f"dec = {rng.uniform(-89, 89):.4f}\n" for i in range(count)]
+    (folder / "targets.toml").write_text("\n".join(tables))
+    text = (DEMO / "demo.toml").read_text()
+    text = text.replace('files = ["demo-targets.toml"]', 'files = ["targets.toml"]')
+    (folder / "config.toml").write_text(text.replace('dut1 = "iers"', "dut1 = 0.1"))
+    return folder / "config.toml"
+
+
+def run(argv: list[str], out_path: pathlib.Path, limit_seconds: float | None = None) -> tuple[float, float]:
+    """Wall seconds and peak RSS (MB) of one fresh process (``inf`` seconds if it ran past the limit)."""
+    env = dict(os.environ, PYTHONPATH=str(ROOT))
+    start = time.perf_counter()
+    with open(out_path, "wb") as out:
+        process = subprocess.Popen(argv, stdout=out, stderr=subprocess.DEVNULL, env=env, cwd=ROOT)
+        while limit_seconds is not None:
+            pid, status, usage = os.wait4(process.pid, os.WNOHANG)
+            if pid:
+                break
+            if time.perf_counter() - start > limit_seconds:
+                process.kill()
+                os.wait4(process.pid, 0)
+                return float("inf"), float("nan")
+            time.sleep(0.05)
+        else:
+            _, status, usage = os.wait4(process.pid, 0)
+    seconds = time.perf_counter() - start
+    code = os.waitstatus_to_exitcode(status)
+    if code != 0:
+        raise SystemExit(f"failed ({code}): {' '.join(argv)}")
+    return seconds, usage.ru_maxrss / 1024.0
+
+
+PREVIOUS_AGENDA = """
+import json, os, sys
+from datetime import datetime
+from siderod.files.config import load_config
+from siderod.plan.agenda import compute_agenda, event_to_json
+start = datetime.fromisoformat(sys.argv[2].replace("Z", "+00:00"))
+config = load_config(sys.argv[1], os.environ, at_unix=start.timestamp())
+agenda = compute_agenda(config, start)
+mode = sys.argv[3]
+if mode == "json":
+    json.dump({"events": [event_to_json(e) for e in agenda.events],
+               "classification": dict(agenda.classification)}, sys.stdout, indent=2)
+elif mode == "table":
+    from rich.console import Console
+    from rich.table import Table
+    table = Table()
+    for name in ("UTC", "Event", "Target", "Alt", "Az", "HA"):
+        table.add_column(name)
+    for e in agenda.events:
+        ha = "" if e.hour_angle_hours is None else f"{e.hour_angle_hours:+.2f}"
+        table.add_row(e.time_utc.strftime("%H:%M:%S"), e.kind.value, e.target or "", f"{e.altitude_deg:.1f}",
+                      f"{e.azimuth_deg:.1f}", ha)
+    Console(width=120).print(table)
+else:
+    from siderod.cli.ics import calendar_for
+    sys.stdout.buffer.write(calendar_for(agenda, config, stamp_utc=start))
+"""
+
+PREVIOUS_NOW_TABLE = """
+import os, sys
+from rich.console import Console
+from rich.table import Table
+from siderod.astro.angles import format_dms, format_hms
+from siderod.astro.timescales import parse_iso_datetime
+from siderod.files.config import load_config
+from siderod.plan.positions import compute_sky
+unix = parse_iso_datetime(sys.argv[2]).timestamp()
+sky = compute_sky(load_config(sys.argv[1], os.environ, at_unix=unix), unix)
+table = Table()
+for name in ("Target", "HA", "Dec", "Alt", "Az"):
+    table.add_column(name)
+for i, name in enumerate(sky.names):
+    table.add_row(name, format_hms(float(sky.ha_hours[i]), decimals=0, sign=True),
+                  format_dms(float(sky.dec_deg[i]), sign=True), f"{float(sky.alt_deg[i]):+.1f}",
+                  f"{float(sky.az_deg[i]):.1f}")
+Console(width=120).print(table)
+"""
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--targets", type=int, default=100_000, help="agenda catalogue size")
+    parser.add_argument("--now-targets", type=int, default=10_000, help="`now` catalogue size")
+    parser.add_argument("--toml-targets", type=int, default=200_000,
+                        help="`check` on a TOML catalogue (0: skip)")
+    parser.add_argument("--skip-previous", action="store_true", help="do not run the previous approaches")
+    parser.add_argument("--previous-limit", type=float, default=300.0,
+                        help="give up on a previous approach after this many seconds (printed as '>')")
+    args = parser.parse_args()
+    work = pathlib.Path(tempfile.mkdtemp(prefix="siderod-bench-"))
+    (work / "big").mkdir()
+    (work / "small").mkdir()
+    big = make_catalogue(work / "big", args.targets)
+    small = make_catalogue(work / "small", args.now_targets)
+    py = sys.executable
+    agenda = [py, "-m", "siderod", "agenda", "--config", str(big), "--from", FROM]
+    now = [py, "-m", "siderod", "now", "--config", str(small), "--at", FROM]
+    n, m = f"{args.targets:,}", f"{args.now_targets:,}"
+    cases = [
+        (f"agenda --json, {n} targets", [*agenda, "--json"],
+         [py, "-c", PREVIOUS_AGENDA, str(big), FROM, "json"]),
+        (f"agenda table (piped), {n} targets", agenda, [py, "-c", PREVIOUS_AGENDA, str(big), FROM, "table"]),
+        (f"agenda --ics, {n} targets", [*agenda, "--ics", str(work / "night.ics")],
+         [py, "-c", PREVIOUS_AGENDA, str(big), FROM, "ics"]),
+        (f"now --json, {m} targets", [*now, "--json"], None),
+        (f"now table (piped), {m} targets", now, [py, "-c", PREVIOUS_NOW_TABLE, str(small), FROM]),
+    ]
+    if args.toml_targets:
+        (work / "toml").mkdir()
+        toml = make_toml_catalogue(work / "toml", args.toml_targets)
+        # The reference is the standard library's TOML parser alone, reading the same file.
+        read = f"import tomllib; tomllib.load(open({str(work / 'toml' / 'targets.toml')!r}, 'rb'))"
+        cases.append((f"check, {args.toml_targets:,} TOML targets",
+                      [py, "-m", "siderod", "check", "--config", str(toml)], [py, "-c", read]))
+    print(f"{'case':44s} {'seconds':>8s} {'MB':>6s}   previous approach (s, MB, ratio)")
+    for name, argv, previous in cases:
+        seconds, mb = run(argv, work / "out")
+        size = (work / "out").stat().st_size / 1e6
+        line = f"{name:44s} {seconds:8.2f} {mb:6.0f}"
+        if previous is not None and not args.skip_previous:
+            p_seconds, p_mb = run(previous, work / "previous", args.previous_limit)
+            if p_seconds == float("inf"):
+                limit = args.previous_limit
+                line += f"   > {limit:.0f} s (stopped)  > {limit / seconds:.0f}x faster"
+            else:
+                line += f"   {p_seconds:7.2f} s {p_mb:5.0f} MB  {p_seconds / seconds:5.1f}x faster"
+        print(line + f"   ({size:.0f} MB written to stdout)", flush=True)
+
+
+if __name__ == "__main__":
+    main()
