@@ -1014,11 +1014,46 @@ def _main(argv: Sequence[str] | None = None) -> int:
     console = make_console(os.environ, width=args.width, height=args.height, record=bool(args.svg))
     console.print(render_board(inputs, args.width, args.height))
     if args.svg:
-        svg = console.export_svg(title="siderod watch: Corrie Hill Observatory (demo)")
+        title = "siderod watch: Corrie Hill Observatory (demo)"
+        svg = console.export_svg(title=title, code_format=_svg_format(title), font_aspect_ratio=0.6,
+                                 unique_id="siderod-board")
         with open(args.svg, "w", encoding="utf-8") as out:
             out.write(svg)
         print(f"wrote {args.svg}")
     return 0
+
+
+#: Fonts already on the viewer's machine; nothing is fetched.
+_SVG_FONTS = "'DejaVu Sans Mono', 'Liberation Mono', Menlo, Consolas, monospace"
+
+
+def _svg_format(title: str) -> str:
+    """Our own SVG frame for the README picture: a plain panel with the title, local fonts only.
+
+    The terminal library's default frame draws window buttons in one desktop system's colours and
+    loads a font from the network each time the picture is viewed; this one draws neither. The
+    placeholders in braces are filled by ``Console.export_svg`` (the text, its styles, the sizes).
+    """
+    from html import escape
+
+    safe_title = escape(title).replace("{", "{{").replace("}", "}}")
+    return (
+        '<svg class="siderod-board" viewBox="0 0 {width} {height}" xmlns="http://www.w3.org/2000/svg">\n'
+        "<style>\n"
+        ".{unique_id}-matrix {{ font-family: " + _SVG_FONTS + ";"
+        " font-size: {char_height}px; line-height: {line_height}px; }}\n"
+        ".{unique_id}-title {{ font-family: " + _SVG_FONTS + "; font-size: 15px; fill: #9aa5b1; }}\n"
+        "{styles}\n"
+        "</style>\n"
+        '<defs><clipPath id="{unique_id}-clip-terminal">'
+        '<rect x="0" y="0" width="{terminal_width}" height="{terminal_height}" /></clipPath>\n'
+        "{lines}\n</defs>\n"
+        '<rect x="0.5" y="0.5" width="{width}" height="{height}" fill="#0f1419" stroke="#3a4652" />\n'
+        '<rect x="0.5" y="0.5" width="{width}" height="30" fill="#1b232c" />\n'
+        f'<text class="{{unique_id}}-title" x="12" y="20">{safe_title}</text>\n'
+        '<g transform="translate({terminal_x}, {terminal_y})" clip-path="url(#{unique_id}-clip-terminal)">\n'
+        '{backgrounds}\n<g class="{unique_id}-matrix">\n{matrix}\n</g>\n</g>\n</svg>\n'
+    )
 
 
 if __name__ == "__main__":

@@ -446,3 +446,26 @@ def test_an_alert_repeating_until_acknowledged_says_which_key_stops_it():
     assert "REPEATING M42 flip-due  press A to acknowledge" in text
     assert "REPEATING" not in record(render_board(small_inputs(snapshot=snapshot()), 100, 30), width=100,
                                      height=30)
+
+
+@pytest.mark.slow
+def test_the_readme_picture_has_our_own_frame_and_fetches_nothing(tmp_path):
+    # The terminal library's default frame drew window buttons in one desktop system's colours
+    # and fetched a font from the network whenever the picture was viewed.
+    import re
+    from pathlib import Path
+
+    from siderod.view.board import _main
+
+    out = tmp_path / "demo-view.svg"
+    assert _main(["--svg", str(out)]) == 0
+    svg = out.read_text(encoding="utf-8")
+    assert "@font-face" not in svg and "url(" not in svg.replace("url(#", "")
+    assert re.findall(r"https?://[^\"' )]+", svg) == ["http://www.w3.org/2000/svg"]
+    assert "<circle" not in svg  # no window buttons
+    assert "siderod watch" in svg and "Corrie Hill Observatory" in svg
+    # The committed picture was made by the same command (python -m siderod.view.board --svg
+    # config/demo-view.svg); its frame, not its board content, is what is checked here, so a
+    # change to the board does not fail this test before the picture is regenerated.
+    committed = (Path(__file__).resolve().parents[2] / "config" / "demo-view.svg").read_text(encoding="utf-8")
+    assert 'class="siderod-board"' in committed and "@font-face" not in committed and "<circle" not in committed
