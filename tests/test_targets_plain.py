@@ -30,3 +30,33 @@ def test_plain_forms_match_the_full_parser_bit_for_bit(kind):
         fast = _plain_angle(text, kind)
         if fast is not None:  # the shortcut answers only when it is sure; otherwise the full parser reads it
             assert fast == _full(text, kind), text
+
+
+def test_plain_toml_tables_give_the_same_targets_as_the_full_reader():
+    # Reference: _one_target, the full reader, on the same tables.
+    from siderod.files.targets import _one_target, _plain_target
+    from siderod.files.tomlpos import Problems
+
+    rng = random.Random(8)
+    lines = []
+    for i in range(400):
+        ra = rng.choice([f'"{rng.uniform(0, 24):.5f}h"', f'"{rng.uniform(0, 360):.4f}d"', '"05h35m17.3s"',
+                         f'"{rng.uniform(0, 24):.3f}"', f"{rng.uniform(24, 360):.3f}"])
+        dec = rng.choice([f"{rng.uniform(-90, 90):.4f}", f'"{rng.uniform(-90, 90):.2f}"', "91", '"-05 23 28"',
+                          str(rng.randint(-90, 90))])
+        lines.append(f'[[target]]\nname = "T{i}"\nra = {ra}\ndec = {dec}\n')
+    text = "\n".join(lines)
+    import tomllib
+
+    entries = tomllib.loads(text)["target"]
+    fast_count = 0
+    for number, entry in enumerate(entries, start=1):
+        prefix = f"target[{number}]"
+        fast = _plain_target(Problems("t.toml", text), entry, prefix)
+        if fast is None:
+            continue
+        fast_count += 1
+        problems = Problems("t.toml", text)
+        assert fast == _one_target(problems, entry, prefix), entry
+        assert not problems.errors
+    assert fast_count > 50  # the shortcut is used for a good share of them

@@ -112,7 +112,9 @@ def collect_targets_toml(problems: Problems) -> tuple[Target, ...]:
     first_use: dict[str, str] = {}
     for number, entry in enumerate(entries, start=1):
         prefix = f"target[{number}]"
-        target = _one_target(problems, entry, prefix)
+        target = _plain_target(problems, entry, prefix)
+        if target is None:
+            target = _one_target(problems, entry, prefix)
         if target is None:
             continue
         if target.name in first_use:
@@ -162,6 +164,32 @@ def collect_targets_csv(problems: Problems) -> tuple[Target, ...]:
         targets.append(Target(name=name, frame=Frame.ICRS, lon_deg=ra_deg, lat_deg=dec_deg,
                               ra_deg=ra_deg, dec_deg=dec_deg, source=f"{problems.path}:{line}"))
     return tuple(targets)
+
+
+_PLAIN_KEYS = frozenset({"name", "ra", "dec"})
+
+
+def _plain_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Target | None:
+    """The target of a table holding only a name, a plain RA and a plain Dec; None for any other
+    table (which :func:`_one_target` then reads and checks in full). Built exactly as
+    ``_one_target`` builds it; a big TOML catalogue is mostly such tables (issue 13 item 4)."""
+    if entry.keys() != _PLAIN_KEYS:
+        return None
+    name, ra, dec = entry["name"], entry["ra"], entry["dec"]
+    if not isinstance(name, str) or not name.strip() or not isinstance(ra, str):
+        return None
+    ra_deg = _plain_angle(ra, "ra")
+    if isinstance(dec, str):
+        dec_deg = _plain_angle(dec, "dec")
+    elif isinstance(dec, (int, float)) and not isinstance(dec, bool) and -90.0 <= dec <= 90.0:
+        dec_deg = float(dec)
+    else:
+        dec_deg = None
+    if ra_deg is None or dec_deg is None:
+        return None
+    return Target(name=name, frame=Frame.ICRS, lon_deg=ra_deg, lat_deg=dec_deg, ra_deg=ra_deg,
+                  dec_deg=dec_deg,
+                  source=f"{problems.path}:{problems.line_of(prefix)}")
 
 
 # A plain decimal, with an "h" or "d" unit or none: most rows of a big catalogue.
