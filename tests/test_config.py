@@ -418,3 +418,20 @@ def test_the_demo_states_its_dut1_and_needs_no_iers_table(monkeypatch):
     # The value stated is the IERS prediction for the demo night (astropy-iers-data's
     # finals2000A.all gives -0.0965 s to -0.0971 s over 14/15 December 2026), rounded.
     assert config.time.dut1_seconds == pytest.approx(-0.0967, abs=0.0005)
+
+
+def test_a_target_file_listed_twice_is_named_as_such_not_as_duplicate_targets():
+    errors = _errors(SITE + '[targets]\nfiles = ["t.toml", "t.toml"]\n', {"t.toml": TARGETS})
+    assert len(errors) == 1, [str(e) for e in errors]
+    assert errors[0].key == "targets.files[2]" and "listed twice" in str(errors[0])
+
+
+def test_lead_times_for_kinds_a_target_can_never_have_are_refused():
+    fixed = ('[[target]]\nname = "Dish"\nframe = "fixed-pointing"\nha = 0\ndec = 41\n'
+             'alerts = { hour-angle = [5], culmination = [0] }\n')
+    errors = _errors(SITE + '[targets]\nfiles = ["t.toml"]\n', {"t.toml": fixed})
+    assert sorted(e.key for e in errors) == ["target[1].alerts.culmination", "target[1].alerts.hour-angle"]
+    assert "a fixed pointing" in str(errors[0])
+    sunny = TARGETS + 'alerts = { sunset = [0] }\n'
+    (error,) = _errors(SITE + '[targets]\nfiles = ["t.toml"]\n', {"t.toml": sunny})
+    assert error.key == "target[1].alerts.sunset" and "[alerts.lead]" in str(error)

@@ -84,6 +84,11 @@ def run(args: argparse.Namespace) -> int:
             return _EXIT_USAGE
         kinds = {valid[k] for k in given}
 
+    from siderod.cli.now import format_time_scale_warning
+
+    warning = format_time_scale_warning(start_utc.timestamp())
+    if warning:
+        print(f"siderod: warning: {warning}", file=sys.stderr)
     config = load_config(getattr(args, "config", None), os.environ, at_unix=start_utc.timestamp())
     if config.is_demo and not args.json:
         print("siderod: no configuration given, so the bundled demo is used (Corrie Hill Observatory, an "

@@ -128,8 +128,22 @@ def format_summary(config: Any, how_found: str) -> str:
                      "the mount into its pier. Add flip-due = [10, 0] under [alerts.lead].")
     if mount.kind is MountKind.GERMAN_EQUATORIAL:
         lines.append("caution: flip and limit times come from this file; the mount's own limits always win.")
+    lines.extend(_empty_file_cautions(config))
     lines.append("OK")
     return "\n".join(lines)
+
+
+def _empty_file_cautions(config: Any) -> list[str]:
+    # An empty target file is valid, but almost always a mistake (a wrong file, an unsaved edit).
+    counts: dict[str, int] = {}
+    for target in config.targets:
+        path = target.source.rpartition(":")[0]
+        counts[path] = counts.get(path, 0) + 1
+    lines = [f"caution: {path} has no targets (is it the file you meant?)"
+             for path in config.target_files if not counts.get(path)]
+    if not config.targets:
+        lines.append("caution: no targets at all: only Sun, Moon and twilight events will be computed")
+    return lines
 
 
 def _hold_lines(alerts: Any) -> list[str]:

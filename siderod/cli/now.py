@@ -60,10 +60,9 @@ def run(args: argparse.Namespace) -> int:
               "invented site); pass --config FILE or write ~/.config/siderod/config.toml",
               file=sys.stderr)
     until = BUILTIN_LEAP_TABLE.known_good_until_utc
-    if not bool(BUILTIN_LEAP_TABLE.is_known_good(unix_seconds)):
-        print(f"siderod: warning: the built-in leap-second table is known good only until {until}; "
-              "UTC-based times after that may be off by a whole second if a leap second was added "
-              "(update siderod)", file=sys.stderr)
+    warning = format_time_scale_warning(unix_seconds)
+    if warning:
+        print(f"siderod: warning: {warning}", file=sys.stderr)
     sky = compute_sky(config, unix_seconds)
     data = sky_to_json(sky, config, leap_until=until.isoformat())
     if args.json:
@@ -77,6 +76,25 @@ def run(args: argparse.Namespace) -> int:
         return 0
     _print_table(sky, config, data)
     return 0
+
+
+def format_time_scale_warning(unix_seconds: float) -> str:
+    """Why times at this instant may be off, or "" when the leap-second table covers it."""
+    from datetime import UTC, datetime
+
+    from siderod.astro.leapseconds import BUILTIN_LEAP_TABLE
+
+    table = BUILTIN_LEAP_TABLE
+    if bool(table.is_known_good(unix_seconds)):
+        return ""
+    day = datetime.fromtimestamp(unix_seconds, UTC).date()
+    if day < table.known_good_from_utc:
+        return (f"{day} is before {table.known_good_from_utc}, when UTC began: the time given is taken as "
+                "UT (plus DUT1) with TAI - UTC = 0, so TT-based places and event times can be off by "
+                "tens of seconds")
+    return (f"the built-in leap-second table is known good only until {table.known_good_until_utc}; "
+            "UTC-based times after that may be off by a whole second if a leap second was added "
+            "(update siderod)")
 
 
 def sky_to_json(sky: Any, config: Any, *, leap_until: str) -> dict[str, Any]:

@@ -810,9 +810,17 @@ def _targets(problems: Problems, data: Mapping[str, Any], base_dir: str,
     per_file: list[Problems] = []
     targets: list[Target] = []
     seen: dict[str, str] = {}
+    listed: dict[str, int] = {}
     for index, name in enumerate(files, start=1):
         key = f"targets.files[{index}]"
         path = os.path.join(base_dir, os.path.expanduser(name))
+        normal = os.path.normpath(path)
+        if normal in listed:
+            # Read twice, every target would be reported as a duplicate "also at" itself.
+            problems.add(key, show_value(name), f"each target file once (this one is listed twice: also "
+                         f"targets.files[{listed[normal]}]); remove one")
+            continue
+        listed[normal] = index
         suffix = os.path.splitext(name)[1].lower()
         if suffix not in (".toml", ".csv", ".txt", ".dat"):
             problems.add(key, show_value(name), "a target file ending in .toml or .csv, or a file of MPC "

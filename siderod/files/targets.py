@@ -317,6 +317,7 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
                          low=MIN_ALTITUDE_RANGE_DEG[0], high=MIN_ALTITUDE_RANGE_DEG[1],
                          what="a lowest usable altitude")
     alerts_enabled, lead = _alerts(problems, entry, prefix)
+    _check_own_kinds(problems, lead, prefix, fixed=frame_text == "fixed-pointing")
     tags = _tags(problems, entry, prefix)
     marks = _hour_angles(problems, entry, prefix)
     beam = _beam(problems, entry, prefix, frame_text)
@@ -423,6 +424,7 @@ def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, befor
                          low=MIN_ALTITUDE_RANGE_DEG[0], high=MIN_ALTITUDE_RANGE_DEG[1],
                          what="a lowest usable altitude")
     alerts_enabled, lead = _alerts(problems, entry, prefix)
+    _check_own_kinds(problems, lead, prefix, fixed=False)
     tags = _tags(problems, entry, prefix)
     marks = _hour_angles(problems, entry, prefix)
     if len(problems.errors) > before or name is None or (body is None and orbit is None):
@@ -514,6 +516,29 @@ def _alerts(problems: Problems, entry: dict[str, Any], prefix: str) -> tuple[boo
     problems.add(f"{prefix}.alerts", show_value(value),
                  "false (no alerts for this target), true, or a table like { culmination = [10, 0] }")
     return True, None
+
+
+#: Kinds that belong to the Sun, the Moon and twilight: never a target's own.
+_SKY_KINDS = frozenset({"sunset", "sunrise", "civil-dusk", "nautical-dusk", "astronomical-dusk",
+                        "astronomical-dawn", "nautical-dawn", "civil-dawn", "moonrise", "moonset"})
+#: A fixed pointing has a constant altitude and hour angle: the agenda finds none of these for it.
+_MOVING_SKY_KINDS = frozenset({"culmination", "lower-culmination", "rise", "set", "altitude-up",
+                               "altitude-down", "hour-angle", "flip-due", "tracking-limit"})
+
+
+def _check_own_kinds(problems: Problems, lead: Any, prefix: str, *, fixed: bool) -> None:
+    """Refuse per-target lead times for kinds that can never fire for the target (they were
+    accepted and silently did nothing)."""
+    for kind in (lead or {}):
+        value = kind.value
+        if value in _SKY_KINDS:
+            problems.add(f"{prefix}.alerts.{value}", show_value(value),
+                         f"a kind of this target's own; {value} is a Sun, Moon or twilight event: set its "
+                         "lead times under [alerts.lead] in the configuration")
+        elif fixed and value in _MOVING_SKY_KINDS:
+            problems.add(f"{prefix}.alerts.{value}", show_value(value),
+                         f"no {value} alerts for a fixed pointing: its hour angle and altitude never "
+                         "change, so it has no such events")
 
 
 def _tags(problems: Problems, entry: dict[str, Any], prefix: str) -> tuple[str, ...]:

@@ -85,3 +85,12 @@ def test_check_says_which_kinds_the_sun_hold_covers(capsys, tmp_path):
 def test_config_and_log_level_are_accepted_before_the_verb_too(capsys, demo_config_path):
     assert main(["--config", str(demo_config_path), "--log-level", "DEBUG", "check"]) == 0
     assert f"configuration: {demo_config_path} (given with --config)" in capsys.readouterr().out
+
+
+def test_an_empty_target_file_gets_a_caution(capsys, tmp_path):
+    (tmp_path / "t.toml").write_text("# nothing yet\n")
+    cfg = tmp_path / "c.toml"
+    cfg.write_text('[site]\nname = "x"\nlatitude = 50\nlongitude = 0\n[targets]\nfiles = ["t.toml"]\n')
+    assert main(["check", "--config", str(cfg)]) == 0
+    out = capsys.readouterr().out
+    assert "caution: " in out and "t.toml has no targets" in out

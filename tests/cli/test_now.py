@@ -158,3 +158,13 @@ def test_table_on_a_terminal_shows_what_fits(capsys, demo_config_path, monkeypat
     assert main(["now", "--at", AT, "--config", str(demo_config_path)]) == 0
     out = capsys.readouterr().out
     assert "more targets" in out and len(out.splitlines()) <= 20
+
+
+def test_an_instant_before_utc_began_gets_its_own_warning(capsys, demo_config_path):
+    # Before 1960 there is no UTC; the warning said the table was good "only until 2027".
+    assert main(["now", "--at", "1950-06-01T00:00:00Z", "--config", str(demo_config_path)]) == 0
+    err = capsys.readouterr().err
+    assert "before 1960-01-01" in err and "only until" not in err
+    assert main(["agenda", "--from", "1950-06-01T00:00:00Z", "--hours", "1", "--json",
+                 "--config", str(demo_config_path)]) == 0
+    assert "before 1960-01-01" in capsys.readouterr().err
