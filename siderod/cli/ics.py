@@ -31,7 +31,7 @@ __all__ = ["LIBRARY_MAX_EVENTS", "calendar_for", "event_note", "event_texts", "w
 
 #: Up to this many events the calendar is built from library components (the reference writer).
 LIBRARY_MAX_EVENTS = 2000
-_BLOCK = 32768  # events per block of the streaming writer
+_BLOCK = 16384  # events per block of the streaming writer (bounds its memory)
 # icalendar's content-line folding starts a new line before the octet that would make a line 75 long,
 # and a continuation line holds 74 octets after its leading space.
 _FOLD = 74
@@ -119,9 +119,10 @@ def write_ics(agenda, config, out, *, stamp_utc: datetime) -> None:
     escaped = [_escape(w) for w in whos]
     uids = [_uid_safe(w).encode() for w in whos]
     esc_who, esc_len = tc.text_table(escaped), np.array([len(b) for b in escaped])
+    sources = tc.text_table(escaped[:len(table.names)] + [b""])  # a beam event's source; -1: none
     uid_who, uid_len = tc.text_table(uids), np.array([len(b) for b in uids])
     kind_text, kind_len = tc.text_table([k.encode() for k in kinds]), np.array([len(k) for k in kinds])
-    notes = _note_columns(table)
+
     for first in range(0, len(table), _BLOCK):
         rows = slice(first, first + _BLOCK)
         part = table.take(rows)
@@ -148,7 +149,7 @@ def write_ics(agenda, config, out, *, stamp_utc: datetime) -> None:
             b"DESCRIPTION": [c(b"DESCRIPTION:altitude "), counted(tc.decimal_column(part.altitude_deg, 1)),
                              c(b" deg\\, azimuth "),
                              counted(tc.decimal_column(np.round(part.azimuth_deg, 1) % 360.0, 1)), c(b" deg"),
-                             counted(notes[rows])],
+                             counted(_note_columns(part, sources))],
         }
         columns = []
         spans = []  # (start in the row, length) of each line the library might fold, in output bytes
@@ -231,8 +232,11 @@ _PLAIN_UID = re.compile(r"[A-Za-z0-9_.-]*")
 _PLAIN_TEXT = re.compile(r"[A-Za-z0-9 _.:'()+/*#&!?=@<>\[\]{}|~%$-]*")
 
 
-def _note_columns(table) -> np.ndarray:
-    """Per event, ``\\; <note>`` (escaped) or nothing: the kind-specific value, as for the table."""
+def _note_columns(table, sources=None) -> np.ndarray:
+    """Per event, ``\\; <note>`` (escaped) or nothing: the kind-specific value, as for the table.
+
+    ``sources``: the escaped target names as a text table (last row empty), when already made.
+    """
     from siderod.common.model import EventKind
     from siderod.plan.table import KIND_CODES
 
@@ -258,7 +262,8 @@ def _note_columns(table) -> np.ndarray:
                          axis=1)
     choice = np.where(culm, 0, np.where(marks, 1, np.where(moon, 2, np.where(through, 3, 0))))
     # Beam events: the source and its declination offset from the beam's axis.
-    sources = tc.text_table([_escape(name) for name in table.names] + [b""])
+    if sources is None:
+        sources = tc.text_table([_escape(name) for name in table.names] + [b""])
     offset = np.nan_to_num(table.beam_offset_deg)
     beam = np.concatenate([c(b"\\; ", n), sources[table.beam_source], c(b" ", n),
                            tc.decimal_column(np.abs(offset), 2), c(b" deg ", n),
