@@ -129,23 +129,8 @@ class Ledger:
             return self.claim(alert.key, now_utc, channels)
 
     def _insert_planned(self, alert: PlannedAlert, now_utc: datetime, *, ignore: bool = False) -> None:
-        self._db.execute(
-            "INSERT " + ("OR IGNORE " if ignore else "") + "INTO alerts(key, target, kind, event_unix,"
-            " lead_minutes, due_unix, title, body, urgency, state, updated_unix)"
-            " VALUES (?,?,?,?,?,?,?,?,?, 'planned', ?)",
-            (
-                alert.key,
-                alert.event.target or SKY_TARGET_NAME,
-                alert.event.kind.value,
-                alert.event.time_utc.timestamp(),
-                alert.lead_minutes,
-                alert.due_utc.timestamp(),
-                alert.title,
-                alert.body,
-                alert.urgency.value,
-                now_utc.timestamp(),
-            ),
-        )
+        sql = _INSERT_PLANNED_SQL.replace("INSERT", "INSERT OR IGNORE", 1) if ignore else _INSERT_PLANNED_SQL
+        self._db.execute(sql, _plan_row(alert, now_utc.timestamp()))
 
     def settled_keys(self, alerts: Iterable[PlannedAlert]) -> frozenset[str]:
         """The keys of ``alerts`` the ledger already holds as sent, delivered or missed (read only)."""
@@ -186,11 +171,7 @@ class Ledger:
             settled = self._settled_near(rows)
             fresh = [row for row in rows if not _matches_settled(row, settled)]
             self._db.execute("DELETE FROM alerts WHERE state = 'planned'")
-            self._db.executemany(
-                "INSERT INTO alerts(key, target, kind, event_unix, lead_minutes, due_unix, title, body,"
-                " urgency, state, updated_unix) VALUES (?,?,?,?,?,?,?,?,?, 'planned', ?)",
-                fresh,
-            )
+            self._db.executemany(_INSERT_PLANNED_SQL, fresh)
         return frozenset(row[0] for row in fresh)
 
     def sweep_missed(self, before_utc: datetime, now_utc: datetime) -> tuple[LedgerRow, ...]:
@@ -564,8 +545,15 @@ class Ledger:
 _Settled = tuple[set[str], dict[tuple[str, str, float], list[float]]]
 
 
+#: One planned alert into ``alerts``; its values are a ``_plan_row``, in this order.
+_INSERT_PLANNED_SQL = (
+    "INSERT INTO alerts(key, target, kind, event_unix, lead_minutes, due_unix, title, body, urgency, state,"
+    " updated_unix) VALUES (?,?,?,?,?,?,?,?,?, 'planned', ?)"
+)
+
+
 def _plan_row(alert: PlannedAlert, now_unix: float) -> tuple:
-    """The ``alerts`` columns of a planned alert, in _insert_planned's order."""
+    """The ``alerts`` columns of a planned alert, in ``_INSERT_PLANNED_SQL``'s order."""
     return (
         alert.key,
         alert.event.target or SKY_TARGET_NAME,
