@@ -91,8 +91,9 @@ def run(args: argparse.Namespace) -> int:
         print(f"siderod: warning: {warning}", file=sys.stderr)
     config = load_config(getattr(args, "config", None), os.environ, at_unix=start_utc.timestamp())
     if config.is_demo and not args.json:
-        print("siderod: no configuration given, so the bundled demo is used (Corrie Hill Observatory, an "
-              "invented site); see `siderod check`.", file=sys.stderr)
+        from siderod.cli import DEMO_NOTICE
+
+        print(DEMO_NOTICE, file=sys.stderr)
     try:
         agenda = _compute(config, start_utc, args, kinds)
     except ValueError as exc:

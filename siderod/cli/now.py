@@ -56,9 +56,9 @@ def run(args: argparse.Namespace) -> int:
 
     config = load_config(getattr(args, "config", None), os.environ, at_unix=unix_seconds)
     if config.is_demo:
-        print("siderod: no configuration given, so the bundled demo is used (Corrie Hill Observatory, an "
-              "invented site); pass --config FILE or write ~/.config/siderod/config.toml",
-              file=sys.stderr)
+        from siderod.cli import DEMO_NOTICE
+
+        print(DEMO_NOTICE, file=sys.stderr)
     until = BUILTIN_LEAP_TABLE.known_good_until_utc
     warning = format_time_scale_warning(unix_seconds)
     if warning:

@@ -99,8 +99,9 @@ def run_reach(args: argparse.Namespace) -> int:
     end_unix = start_unix + args.hours * 3600.0
     config = load_config(getattr(args, "config", None), os.environ, at_unix=start_unix)
     if config.is_demo and not args.json:
-        print("siderod: no configuration given, so the bundled demo is used (Corrie Hill Observatory, an "
-              "invented site); see `siderod check`.", file=sys.stderr)
+        from siderod.cli import DEMO_NOTICE
+
+        print(DEMO_NOTICE, file=sys.stderr)
     site = config.site
     dut1 = config.time.dut1_seconds
     times = find_lst_unix(lst_hours, site.longitude_deg, start_unix, end_unix, apparent=not args.mean,
