@@ -1,5 +1,6 @@
 """compute_agenda: records, filters, window edges, classifications and dark intervals."""
 
+import math
 from datetime import UTC, datetime, timedelta
 
 import numpy as np
@@ -257,3 +258,18 @@ def test_the_window_state_never_borrows_the_trade_words():
     assert agenda.sky_classes == {"Vega": "rises-and-sets", "Equator": "rises-and-sets",
                                   "M42": "rises-and-sets", "Capella": "circumpolar",
                                   "Deep south": "never-rises"}
+
+
+@pytest.mark.parametrize("latitude_deg", [89.9, 78.2, 56.2, -32.4, -89.9])
+def test_lower_culmination_is_plus_twelve_hours_everywhere_and_json_has_no_negative_zero(latitude_deg):
+    # It was -12.00 h at the poles and +12.00 h elsewhere; JSON carried -0.0.
+    site = Site("Test site (invented)", latitude_deg, 15.0, 0.0, "UTC")
+    targets = (_target("North", 30.0, 60.0), _target("South", 200.0, -60.0), _target("Equator", 100.0, 0.0))
+    agenda = compute_agenda(_config(site=site, targets=targets), DEMO_NIGHT, 24.0,
+                            kinds={EventKind.LOWER_CULMINATION, EventKind.CULMINATION})
+    lower = [e for e in agenda.events if e.kind is EventKind.LOWER_CULMINATION]
+    assert lower and all(abs(e.hour_angle_hours - 12.0) < 1e-6 for e in lower)
+    assert all(event_to_json(e)["hour_angle_hours"] == 12.0 for e in lower)
+    for event in agenda.events:
+        for value in event_to_json(event).values():
+            assert not (isinstance(value, float) and value == 0.0 and math.copysign(1.0, value) < 0)

@@ -165,18 +165,47 @@ def status_to_json(result: dict[str, Any]) -> dict[str, Any]:
     Added keys: ``uptime_seconds``, ``lst`` (``{"at_utc", "last_hours", "lmst_hours"}`` or null when
     the astronomy core is not importable) and ``clock_warning`` (text or null).
     """
+    from dataclasses import replace
+
     from siderod.service.protocol import format_iso_z
 
     snapshot = _snapshot(result)
-    lst = _local_sidereal_hours(snapshot)
-    data = dict(_snapshot_json(result))
+    # Whole seconds, as the README shows them; LST is worked out for the second that is shown.
+    lst = _local_sidereal_hours(replace(snapshot, taken_utc=_whole_second(snapshot.taken_utc)))
+    data = _whole_second_times(dict(_snapshot_json(result)))
     data["uptime_seconds"] = (snapshot.taken_utc - snapshot.started_utc).total_seconds()
     data["lst"] = (
         None if lst is None
-        else {"at_utc": format_iso_z(snapshot.taken_utc), "last_hours": lst[0], "lmst_hours": lst[1]}
+        else {"at_utc": format_iso_z(_whole_second(snapshot.taken_utc)), "last_hours": lst[0],
+              "lmst_hours": lst[1]}
     )
     data["clock_warning"] = _clock_warning(snapshot)
     return data
+
+
+def _whole_second(when: datetime) -> datetime:
+    from datetime import timedelta
+
+    return (when + timedelta(microseconds=500_000)).replace(microsecond=0)
+
+
+def _whole_second_times(value: Any, key: str = "") -> Any:
+    """Every ``*_utc`` time in a status object to the whole second, except inside ``event`` objects,
+    whose ``time_utc`` keeps the agenda's milliseconds (the same event fields as ``agenda --json``)."""
+    from siderod.service.protocol import format_iso_z, parse_iso_z
+
+    if key == "event":
+        return value
+    if isinstance(value, dict):  # under "muted" the keys are target names and the values times
+        return {k: _whole_second_times(v, "until_utc" if key == "muted" else k) for k, v in value.items()}
+    if isinstance(value, list):
+        return [_whole_second_times(v, key) for v in value]
+    if isinstance(value, str) and key.endswith("_utc") and "." in value:
+        try:
+            return format_iso_z(_whole_second(parse_iso_z(value)))
+        except ValueError:
+            return value
+    return value
 
 
 def format_status(result: dict[str, Any]) -> str:

@@ -558,6 +558,9 @@ class _EventMaker:
         if idx.size == 0:
             return
         alt, az, ha, floor = self._state(idx, times)
+        if kind is EventKind.LOWER_CULMINATION:
+            # On the +12 h side always: round-off put it at -12.00 h at some latitudes, +12.00 h at others.
+            ha = np.where(ha < 0.0, ha + 24.0, ha)
         usable = alt >= floor  # usable at or above the limit, as in `now` and on the board
         wrapped_mark = mark_hours - 24.0 * math.floor((mark_hours + 12.0) / 24.0)
         is_culmination = kind in (EventKind.CULMINATION, EventKind.LOWER_CULMINATION)
@@ -672,4 +675,5 @@ def _azimuth(az_deg: float) -> float:
 
 
 def _round(value, digits):
-    return None if value is None else round(float(value), digits)
+    # "+ 0.0" turns a rounded -0.0 into 0.0: JSON readers should never see a negative zero.
+    return None if value is None else round(float(value), digits) + 0.0

@@ -21,7 +21,7 @@ import signal
 import string
 from collections.abc import Callable, Collection, Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from datetime import datetime
+from datetime import datetime, timedelta
 from typing import Any, Protocol
 from zoneinfo import ZoneInfo
 
@@ -667,7 +667,13 @@ def channel_accepts(channel: Channel, message: AlertMessage) -> bool:
 
 
 def _local_iso(when_utc: datetime | None, zone: ZoneInfo) -> str:
-    return "" if when_utc is None else when_utc.astimezone(zone).isoformat(timespec="seconds")
+    return "" if when_utc is None else _whole_second(when_utc).astimezone(zone).isoformat(timespec="seconds")
+
+
+def _whole_second(when: datetime) -> datetime:
+    # Rounded, as the alert's title, body and key round it (siderod.plan.planner), so that every
+    # placeholder and the text of one alert name the same second.
+    return (when + timedelta(microseconds=500_000)).replace(microsecond=0)
 
 
 class _CapturedWarnings(logging.Handler):
@@ -693,7 +699,7 @@ def _format_late(seconds: float) -> str:
 
 
 def _iso(when: datetime | None) -> str:
-    return "" if when is None else when.strftime("%Y-%m-%dT%H:%M:%SZ")
+    return "" if when is None else _whole_second(when).strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
 def _kill_group(process: asyncio.subprocess.Process) -> None:

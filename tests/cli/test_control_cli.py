@@ -280,3 +280,16 @@ async def test_ack_and_its_long_name_send_the_same_request(socket_path, fake, ca
     assert capsys.readouterr().out.strip() == (
         "nothing to acknowledge for Demo Pair C: no critical alert is repeating")
     assert fake.requests == [Request(Op.ACK), Request(Op.ACK, "Demo Pair C")]
+
+
+def test_status_json_gives_whole_seconds_as_the_readme_shows():
+    # The service's own clock has microseconds; status --json printed them.
+    from dataclasses import replace
+
+    from siderod.cli.control import status_to_json
+
+    taken = TAKEN_UTC + timedelta(microseconds=734_512)
+    shot = replace(demo_snapshot(), taken_utc=taken, started_utc=taken - timedelta(hours=1, microseconds=3))
+    data = status_to_json(snapshot_to_json(shot))
+    assert data["taken_utc"] == "2026-12-14T21:03:08Z" and data["started_utc"] == "2026-12-14T20:03:08Z"
+    assert data["lst"] is None or data["lst"]["at_utc"] == "2026-12-14T21:03:08Z"

@@ -128,3 +128,21 @@ async def test_the_hook_is_told_the_key_and_when_an_earlier_try_began(tmp_path):
     assert lines[3] == "C|fresh "
     assert sorted(o for o in sink.outcomes if o[0] == "ok") == [("ok", "A|resumed"), ("ok", "B|fail-once"),
                                                                ("ok", "C|fresh")]
+
+
+def test_time_placeholders_round_the_event_to_the_second_as_the_body_does():
+    # The body said 21:03:08 (rounded) while {time_local} and {time_utc} said 21:03:07 (cut).
+    from dataclasses import replace
+    from datetime import UTC, datetime
+
+    from siderod.common.model import Event, EventKind, Site
+    from siderod.plan.planner import format_alert
+
+    when = datetime(2026, 12, 14, 21, 3, 7, 600_000, tzinfo=UTC)
+    site = Site("Corrie Hill Observatory", 56.2, -3.7, 212.0, "Europe/London")
+    event = Event(when, EventKind.CULMINATION, "M31", 70.0, 180.0, hour_angle_hours=0.0)
+    _, body = format_alert(event, 0, site)
+    assert "21:03:08 GMT" in body
+    channel = CommandChannel(["echo", "{time_utc}", "{time_local}"], timezone="Europe/London")
+    argv = channel.argv_for(replace(MESSAGE, event_utc=when))
+    assert argv[1:] == ["2026-12-14T21:03:08Z", "2026-12-14T21:03:08+00:00"]
