@@ -162,10 +162,12 @@ def _silence_stdout() -> None:
 
 
 def _configure_logging(level_name: str) -> None:
+    from siderod.common.logformat import LOG_FORMAT
+
     # One line per event on stderr; journald keeps them under systemd. The live view replaces
     # this handler with one that prints above the board (see siderod.view.live).
     logging.basicConfig(
         level=getattr(logging, level_name.upper()),
-        format="%(asctime)s %(levelname)s %(name)s: %(message)s",
+        format=LOG_FORMAT,
         stream=sys.stderr,
     )

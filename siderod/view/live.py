@@ -255,12 +255,10 @@ def log_to_console(console: Console) -> Iterator[logging.Handler]:
     Handlers on the root logger that write to a terminal stream are taken off meanwhile: they hold
     the real stderr and would write over the live region.
     """
-    from rich.logging import RichHandler
-
     root = logging.getLogger()
     removed = [h for h in root.handlers if isinstance(h, logging.StreamHandler)
                and not isinstance(h, logging.FileHandler)]
-    handler = RichHandler(console=console, show_path=False, markup=False, rich_tracebacks=False)
+    handler = _ConsoleLogHandler(console)
     handler.setLevel(min((h.level for h in removed), default=logging.NOTSET))
     for h in removed:
         root.removeHandler(h)
@@ -274,6 +272,25 @@ def log_to_console(console: Console) -> Iterator[logging.Handler]:
 
 
 # -- helpers, in the order they are called ---------------------------------------------------------
+
+
+class _ConsoleLogHandler(logging.Handler):
+    """Log lines printed above the board, in the same format as on stderr (ISO dates)."""
+
+    def __init__(self, console: Console) -> None:
+        from siderod.common.logformat import LOG_FORMAT
+
+        super().__init__()
+        self.console = console
+        self.setFormatter(logging.Formatter(LOG_FORMAT))
+
+    def emit(self, record: logging.LogRecord) -> None:
+        try:
+            self.console.print(self.format(record), markup=False, highlight=False, emoji=False,
+                               soft_wrap=True)
+        except Exception:
+            self.handleError(record)
+
 
 
 @contextmanager

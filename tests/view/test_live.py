@@ -144,3 +144,21 @@ async def test_keys_are_not_read_from_something_that_is_not_a_terminal(tmp_path)
 
     with open(tmp_path / "not-a-tty", "w+") as f, read_keys(f.fileno(), {"a": lambda: None}):
         pass  # no termios call on a plain file, no reader added
+
+
+def test_log_lines_keep_one_format_with_iso_dates_once_the_board_starts():
+    # The board's handler switched to another style with a locale (month-first) date.
+    import re
+
+    root = logging.getLogger()
+    old_level = root.level
+    root.setLevel(logging.INFO)
+    buffer = io.StringIO()
+    try:
+        with log_to_console(terminal_console(buffer)):
+            logging.getLogger("siderod.test").warning("flip alert sent")
+    finally:
+        root.setLevel(old_level)
+    line = next(x for x in buffer.getvalue().splitlines() if "flip alert sent" in x)
+    iso = r"\d{4}-\d{2}-\d{2} \d{2}:\d{2}:\d{2},\d{3}"
+    assert re.match(iso + r" WARNING siderod.test: flip alert sent", line), line
