@@ -208,3 +208,23 @@ def test_a_fan_beam_is_read_with_both_widths():
     config = _config(TARGETS.replace("beam = 4", "beam = { ha = 12, dec = 4 }"))
     horn = next(t for t in config.targets if t.name == "Horn")
     assert (horn.beam_ha_deg, horn.beam_dec_deg, horn.beam_sources) == (12.0, 4.0, ("sun",))
+
+
+def test_the_board_shows_the_source_in_each_beam_and_the_next_with_its_countdown():
+    from siderod.view.board import compose_board, format_countdown, inputs_from_config
+
+    config = _config()
+    agenda = compute_agenda(config, START, 24.0)
+    rows = _beam_rows(agenda, "Dish", "Vega")
+    enter, centre, leave = (e.time_utc for e in rows.records())
+
+    def beam_lines(now):
+        frame = compose_board(inputs_from_config(config, now, agenda=agenda), 120, 40)
+        return [line.plain for line in frame.lines() if line.plain.startswith("◎")]
+
+    before = beam_lines(enter - timedelta(minutes=3))
+    assert before[0] == f"◎ Dish  beam empty  ·  next Vega in {format_countdown(180.0)}"
+    during = beam_lines(centre)
+    assert during[0].startswith("◎ Dish  in beam Vega leaves in ")
+    assert f"leaves in {format_countdown((leave - centre).total_seconds())}" in during[0]
+    assert beam_lines(enter - timedelta(minutes=3))[1].startswith("◎ Horn  beam empty  ·  next Sun in ")

@@ -69,6 +69,10 @@ LATE_SHOWN_SECONDS = 5.0
 SOON_SECONDS = 15 * 60.0
 #: Rows the target table keeps even when alerts and warnings compete for a short terminal.
 MIN_TABLE_ROWS = 3
+#: Fixed pointings with a beam shown on the board, one line each (the rest: `siderod agenda`).
+BEAM_LINES_SHOWN = 3
+#: Events of a pointing read ahead per frame to find the sources in its beam and the next one.
+BEAM_SCAN_EVENTS = 200
 #: How long after the tracking limit a German-mount row keeps saying "past".
 PAST_LIMIT_SHOWN_HOURS = 1.0
 
@@ -339,6 +343,7 @@ def _render_body(inputs: BoardInputs, width: int, height: int | None) -> tuple[T
         from siderod.view.mountpanel import mount_panel_lines
 
         info.extend(mount_panel_lines(inputs.snapshot.mount, width))
+    info.extend(_beam_lines(inputs, width))
     warnings = _warning_lines(inputs, width)
     alert_lines, delivery_lines = _alert_lines(inputs, width), _delivery_lines(inputs, width)
     rows = _target_rows(inputs)
@@ -427,6 +432,65 @@ def _sky_line(inputs: BoardInputs, width: int) -> Text:
     elif inputs.agenda_pending:
         fields.append((2, [("working out tonight's events...", "siderod.dim")]))
     return _fit_fields(width, fields)
+
+
+def _beam_lines(inputs: BoardInputs, width: int) -> list[Text]:
+    """Per fixed pointing with a beam: the sources in the beam now and the next to enter."""
+    pointings = [t for t in inputs.config.targets if t.beam_ha_deg is not None and t.beam_sources]
+    if not pointings:
+        return []
+    index = _event_index(inputs.events)
+    now_unix = inputs.now_utc.timestamp()
+    out = []
+    for pointing in pointings[:BEAM_LINES_SHOWN]:
+        inside, coming = _beam_state(index.get(pointing.name), now_unix)
+        parts = [("◎ ", "siderod.label"), (f"{pointing.name}  ", "siderod.value")]
+        if inside:
+            first = inside[0]
+            more = f" +{len(inside) - 1}" if len(inside) > 1 else ""
+            parts += [("in beam ", "siderod.label"), (f"{first.beam_source}{more}", "siderod.value"),
+                      (" leaves in " + format_countdown(first.time_utc.timestamp() - now_unix),
+                       "siderod.countdown")]
+        else:
+            parts += [("beam empty", "siderod.dim")]
+        if coming is not None:
+            seconds = coming.time_utc.timestamp() - now_unix
+            parts += [("  ·  next ", "siderod.label"), (f"{coming.beam_source}", "siderod.value"),
+                      (" in " + format_countdown(seconds),
+                       "siderod.countdown.soon" if seconds < SOON_SECONDS else "siderod.countdown")]
+        out.append(_line(width, *parts))
+    return out
+
+
+def _beam_state(events: _TargetEvents | None, now_unix: float) -> tuple[list[Event], Event | None]:
+    """(the leave events of the sources in the beam now, the next entry) from a pointing's events.
+
+    A source is in the beam when its first event after now is its centre or its leaving; only the
+    next :data:`BEAM_SCAN_EVENTS` events are read, so a frame costs the same for any source list.
+    """
+    if events is None or None not in events.by_kind:
+        return [], None
+    times, items = events.by_kind[None]
+    seen: set[str | None] = set()
+    inside: list[Event] = []
+    coming = None
+    start = bisect.bisect_left(times, now_unix)
+    for event in items[start:start + BEAM_SCAN_EVENTS]:
+        source = event.beam_source
+        if source in seen:
+            continue
+        seen.add(source)
+        if event.kind is EventKind.BEAM_ENTER:
+            coming = coming or event
+        elif event.kind is EventKind.BEAM_LEAVE:
+            inside.append(event)
+        elif event.kind is EventKind.BEAM_CENTRE:
+            leave = next((e for e in items[start:start + BEAM_SCAN_EVENTS]
+                          if e.beam_source == source and e.kind is EventKind.BEAM_LEAVE
+                          and e.time_utc > event.time_utc), event)
+            inside.append(leave)
+    inside.sort(key=lambda e: e.time_utc)
+    return inside, coming
 
 
 def _warning_lines(inputs: BoardInputs, width: int) -> list[Text]:
