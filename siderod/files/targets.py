@@ -285,7 +285,7 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
     if "body" in entry or "elements" in entry or (ORBIT_KEYS - {"epoch"}) & entry.keys():
         return _moving_target(problems, entry, prefix, before)
     name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
-    if entry.get("frame") in RENAMED_FRAMES:
+    if isinstance(entry.get("frame"), str) and entry["frame"] in RENAMED_FRAMES:
         new = RENAMED_FRAMES[entry["frame"]]
         problems.add(f"{prefix}.frame", show_value(entry["frame"]),
                      f'frame = "{new}" (the frame of a fixed hour angle and declination was renamed '
