@@ -94,10 +94,15 @@ def measure_naive(config, frames: int) -> float:
 
 
 def main() -> None:
+    global TARGET_COUNT, WIDTH, HEIGHT  # noqa: PLW0603 -- the cases read these module settings
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--seconds", type=float, default=10.0, help="measuring time per case (default 10)")
     parser.add_argument("--naive-frames", type=int, default=3)
+    parser.add_argument("--targets", type=int, default=TARGET_COUNT, help="catalogue size (e.g. 500, 5000)")
+    parser.add_argument("--size", default=f"{WIDTH}x{HEIGHT}", help="terminal COLSxROWS (e.g. 80x24, 200x60)")
     args = parser.parse_args()
+    TARGET_COUNT = args.targets
+    WIDTH, HEIGHT = (int(v) for v in args.size.lower().split("x"))
 
     from siderod.plan.agenda import compute_agenda
 
