@@ -179,8 +179,9 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
 
     # Fixed places and moving bodies go in separate chunks: a chunk shares one track, and only a
     # moving body's track carries parallax and needs the extra refinement steps.
-    stars = [t for t in chosen if t.frame is not Frame.HADEC and not is_moving(t)]
-    moving = [t for t in chosen if is_moving(t)]
+    moves = [is_moving(t) for t in chosen]
+    stars = [t for t, m in zip(chosen, moves, strict=True) if t.frame is not Frame.HADEC and not m]
+    moving = [t for t, m in zip(chosen, moves, strict=True) if m]
     sky = stars + moving
     fixed = [t for t in chosen if t.frame is Frame.HADEC]
     sky_names = [t.name for t in sky]

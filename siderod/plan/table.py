@@ -28,6 +28,7 @@ KINDS: tuple[EventKind, ...] = tuple(EventKind)
 #: EventKind -> its code in ``EventTable.kind``.
 KIND_CODES = {kind: code for code, kind in enumerate(KINDS)}
 
+_KIND_SPAN = 1 << max(1, (len(KINDS) - 1).bit_length())  # room for every kind code
 _EPOCH = datetime(1970, 1, 1, tzinfo=UTC)
 _FLOAT_COLUMNS = ("time_unix", "altitude_deg", "azimuth_deg", "hour_angle_hours", "threshold_deg",
                   "mark_hours", "moon_illuminated_fraction", "sun_separation_deg", "beam_offset_deg")
@@ -152,9 +153,12 @@ class EventTable:
         if len(self) == 0:
             return self
         micros = self.time_microseconds()
-        order = np.lexsort((self.kind, micros))
-        t, k = micros[order], self.kind[order]
-        if np.any((t[1:] == t[:-1]) & (k[1:] == k[:-1])):
+        # One sort of a combined key (time, then kind, in the low bits: POSIX microseconds times
+        # 2**5 stay far inside int64 until the year 2300) instead of two.
+        key = micros * _KIND_SPAN + self.kind.astype(np.int64)
+        order = np.argsort(key, kind="stable")
+        sorted_key = key[order]
+        if np.any(sorted_key[1:] == sorted_key[:-1]):
             # Ties in time and kind are rare; only then rank the names (a sort of every name).
             rank = np.empty(len(self.names) + 1, dtype=np.int64)
             rank[-1] = -1  # Sun/Moon events (target -1) sort as the empty name, before every target
