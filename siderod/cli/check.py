@@ -70,6 +70,17 @@ def format_summary(config: Any, how_found: str) -> str:
         per_frame[target.frame.value] = per_frame.get(target.frame.value, 0) + 1
     frames = ", ".join(f"{count} {frame}" for frame, count in per_frame.items()) or "none"
     lines.append(f"targets: {len(config.targets)} ({frames}) from {len(config.target_files)} file(s)")
+    bodies = [t.name for t in config.targets if t.body is not None]
+    orbits = [t for t in config.targets if t.orbit is not None]
+    if bodies or orbits:
+        from siderod.astro.timescales import datetime_from_unix
+
+        def epoch(t):
+            return datetime_from_unix((t.orbit.epoch_jd_tt - 2440587.5) * 86400.0).strftime("%Y-%m-%d")
+
+        parts = ([f"{', '.join(bodies)} (JPL ephemeris)"] if bodies else []) + [
+            f"{t.name} (elements of {epoch(t)})" for t in orbits]
+        lines.append("  moving: " + "; ".join(parts))
     looked_up = [t for t in config.targets if t.catalogue_entry]
     if looked_up:
         lines.append(f"  places from the deep-sky catalogue: {len(looked_up)} ("

@@ -18,6 +18,7 @@ def test_demo_summary(capsys, demo_config_path):
     assert ("targets: 20 (11 icrs, 2 galactic, 1 ecliptic, 1 ecliptic-of-date, 2 fixed-pointing, 2 body, "
             "1 orbit)" in out)
     assert "flip-due: 10, 0 (critical)" in out
+    assert "moving: Jupiter, Moon (JPL ephemeris); Comet Corrie Hill (elements of 2026-12-01)" in out
     assert "mount's own limits always win" in out
     assert out.rstrip().endswith("OK")
 
