@@ -199,3 +199,11 @@ def test_ecliptic_of_date_is_a_frame_value_as_shown_in_output():
     (target,) = parse_targets_toml(text, "t.toml")
     (same,) = parse_targets_toml(text.replace('"ecliptic-of-date"', '"ecliptic"\nequinox = "date"'), "t.toml")
     assert target.frame is Frame.ECLIPTIC_OF_DATE and target == same
+
+
+def test_a_frame_that_is_a_list_is_a_teaching_error():
+    # Found by tests/test_config_fuzz.py: `frame = []` raised TypeError (unhashable list) in the
+    # renamed-frame check instead of giving a file:line: key error.
+    with pytest.raises(ConfigErrors) as caught:
+        parse_targets_toml('[[target]]\nname = "x"\nframe = []\n', "t.toml")
+    assert any(e.key == "target[1].frame" for e in caught.value.errors)
