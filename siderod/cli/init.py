@@ -86,8 +86,12 @@ def run(args: argparse.Namespace) -> int:
         if config_path.exists() and config_path.read_text(encoding="utf-8") == text:
             config_path.unlink()
         raise
+    # The verbs find this file by themselves only where they look without --config (README "Configuration").
+    found = (not os.environ.get("SIDEROD_CONFIG")
+             and config_path.resolve() == (resolve_paths(os.environ).config_dir / "config.toml").resolve())
+    option = "" if found else f" --config {config_path}"
     print(f"wrote {config_path}\nwrote {targets_path}\n"
-          "Next: edit them, then run `siderod check`; `siderod now` shows your sky.")
+          f"Next: edit them, then run `siderod check{option}`; `siderod now{option}` shows your sky.")
     return 0
 
 

@@ -39,3 +39,23 @@ def test_the_readme_tells_a_new_user_to_run_init_not_to_copy_the_demo():
     readme = (Path(__file__).resolve().parents[2] / "README.md").read_text()
     assert "Copy `config/demo.toml`" not in readme
     assert "siderod init --latitude" in readme
+
+
+def test_init_into_another_directory_says_how_to_use_what_it_wrote(tmp_path, capsys, monkeypatch):
+    # Found trying it: with --dir the closing hint said to run `siderod check`, which would check
+    # the bundled demo (or the user's other configuration), not the files just written.
+    monkeypatch.delenv("SIDEROD_CONFIG", raising=False)
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(tmp_path / "config-home"))
+    target = tmp_path / "elsewhere"
+    assert main(["init", "--dir", str(target), "--latitude", "50", "--longitude", "0"]) == 0
+    out = capsys.readouterr().out
+    assert f"siderod check --config {target / 'config.toml'}" in out
+
+
+def test_init_into_the_usual_place_needs_no_config_option(tmp_path, capsys, monkeypatch):
+    monkeypatch.delenv("SIDEROD_CONFIG", raising=False)
+    monkeypatch.setenv("XDG_CONFIG_HOME", str(tmp_path / "config-home"))
+    assert main(["init", "--latitude", "50", "--longitude", "0"]) == 0
+    out = capsys.readouterr().out
+    assert "`siderod check`" in out and "--config" not in out
+    assert (tmp_path / "config-home" / "siderod" / "config.toml").is_file()
