@@ -176,6 +176,11 @@ def _hold_lines(alerts: Any) -> list[str]:
     return lines
 
 
+#: The runtime dependencies in pyproject.toml (tzdata, Windows only, aside), for --doctor's versions line.
+_RUNTIME_DISTRIBUTIONS = ("numpy", "jplephem", "skyfield-data", "apscheduler", "rich", "desktop-notifier",
+                          "icalendar", "pyongc", "indipyclient", "tomlkit", "apprise")
+
+
 def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]) -> str:
     """Environment report: versions, configuration source, leap table, socket and bus."""
     import platform
@@ -188,7 +193,7 @@ def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]
 
     lines = ["doctor:"]
     versions = [f"siderod {__version__}", f"python {platform.python_version()}"]
-    for dist in ("numpy", "rich", "apscheduler", "desktop-notifier", "jplephem", "skyfield-data", "apprise"):
+    for dist in _RUNTIME_DISTRIBUTIONS:
         try:
             versions.append(f"{dist} {metadata.version(dist)}")
         except metadata.PackageNotFoundError:

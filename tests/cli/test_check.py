@@ -95,3 +95,19 @@ def test_an_empty_target_file_gets_a_caution(capsys, tmp_path):
     assert main(["check", "--config", str(cfg)]) == 0
     out = capsys.readouterr().out
     assert "caution: " in out and "t.toml has no targets" in out
+
+
+def test_doctor_names_the_version_of_every_runtime_dependency(capsys, demo_config_path, monkeypatch):
+    # Found following the README: --doctor left out pyongc, tomlkit, icalendar and indipyclient,
+    # which a bug report needs as much as the others. The list is pyproject.toml's dependencies.
+    import re
+    import tomllib
+    from pathlib import Path
+
+    pyproject = tomllib.loads((Path(__file__).resolve().parents[2] / "pyproject.toml").read_text())
+    names = [re.split(r"[<>=;!~ \[]", dep, maxsplit=1)[0] for dep in pyproject["project"]["dependencies"]]
+    monkeypatch.delenv("DBUS_SESSION_BUS_ADDRESS", raising=False)
+    assert main(["check", "--doctor", "--config", str(demo_config_path)]) == 0
+    line = next(line for line in capsys.readouterr().out.splitlines() if "versions:" in line)
+    missing = [n for n in names if n != "tzdata" and f" {n} " not in line.replace(",", " ") + " "]
+    assert not missing, line
