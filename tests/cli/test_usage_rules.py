@@ -47,3 +47,20 @@ def test_an_unknown_target_name_gets_a_did_you_mean(demo_config_path, capsys):
     args = ["agenda", "--from", "2026-12-14T20:00:00Z", "--hours", "1", "--config", str(demo_config_path)]
     assert main([*args, "--target", "Betelguese"]) == 1  # a name the configuration lacks: exit 1
     assert 'did you mean "Betelgeuse"' in capsys.readouterr().err
+
+
+def test_the_readme_usage_table_names_every_verb():
+    # Found following the README: its Usage table had no row for `sidereal`, `ack` or `use`.
+    import argparse
+    import re
+    from pathlib import Path
+
+    from siderod.cli.main import build_parser
+
+    readme = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
+    table = readme.split("## Usage", 1)[1].split("\n\n", 2)[1]
+    named = set(re.findall(r"(?:`siderod |, `)([a-z-]+)", table))
+    subparsers = next(a for a in build_parser()._actions if isinstance(a, argparse._SubParsersAction))
+    verbs = {name for name, sub in subparsers.choices.items()
+             if name == sub.prog.split()[-1]}  # aliases (`ack`) share their verb's parser
+    assert verbs - named == set()
