@@ -128,3 +128,16 @@ def test_target_in_use_makes_its_flip_critical_and_others_low_or_off():
     assert urgency_for_target(flip, "B", "A", Urgency.CRITICAL, "off") is None
     assert urgency_for_target(flip, "B", None, Urgency.CRITICAL, "off") is Urgency.CRITICAL  # nothing in use
     assert urgency_for_target(EventKind.CULMINATION, "B", "A", Urgency.LOW, "off") is Urgency.LOW
+
+
+def test_next_target_in_use_goes_nearest_the_meridian_first_then_none():
+    from siderod.plan.mount import next_target_in_use
+
+    names, ha, alt = ("A", "B", "C", "D"), (1.5, -0.2, 0.7, 0.1), (40.0, 50.0, 30.0, -5.0)
+    picks, current = [], None
+    for _ in range(4):
+        current = next_target_in_use(names, ha, alt, current)
+        picks.append(current)
+    assert picks == ["B", "C", "A", None]  # D is below the horizon
+    assert next_target_in_use(names, ha, alt, "gone") == "B"
+    assert next_target_in_use((), (), (), None) is None

@@ -131,9 +131,28 @@ def _run_live(args: argparse.Namespace, console: Any) -> int:
         if snapshot is not None:
             await asyncio.to_thread(request_once, socket_path, {"op": "ack"}, timeout_seconds=20.0)
 
+    def pick_target_in_use() -> None:
+        # The board's U key: the next target in use (nearest the meridian first, then none),
+        # chosen here from the same sky and sent as `siderod use` would.
+        from siderod.plan.mount import next_target_in_use, pointable
+        from siderod.plan.positions import compute_sky
+
+        current = snapshot_from_json(request_once(socket_path, {"op": "status"})).mount.in_use
+        targets = [t for t in config.targets if pointable(t)]
+        choice = None
+        if targets:
+            sky = compute_sky(config, clock.now_utc().timestamp(), targets=targets)
+            choice = next_target_in_use(sky.names, sky.ha_hours, sky.alt_deg, current)
+        request_once(socket_path, {"op": "use", "target": choice}, timeout_seconds=20.0)
+
+    async def use_next() -> None:
+        if snapshot is not None:  # without a service there is nothing to tell
+            await asyncio.to_thread(pick_target_in_use)
+
     async def main() -> None:
         try:
-            await run_live(clock, feed.inputs_at, console, min(hz, 10.0), keys={"a": acknowledge})
+            await run_live(clock, feed.inputs_at, console, min(hz, 10.0),
+                           keys={"a": acknowledge, "u": use_next})
         finally:
             await feed.close()
 

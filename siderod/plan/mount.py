@@ -19,7 +19,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from datetime import datetime, timedelta
 
-from siderod.common.model import EventKind, Mount, Urgency
+from siderod.common.model import EventKind, Frame, Mount, Target, Urgency
 
 __all__ = [
     "PierSide",
@@ -37,6 +37,8 @@ __all__ = [
     "nearest_target",
     "angular_distance_deg",
     "urgency_for_target",
+    "next_target_in_use",
+    "pointable",
 ]
 
 #: Hour angle gained per hour of UT by a point fixed on the sky: the ratio of the mean solar to
@@ -238,3 +240,27 @@ def urgency_for_target(
     if others == "off":
         return None
     return Urgency.LOW
+
+
+def next_target_in_use(
+    names: Sequence[str],
+    ha_hours: Sequence[float],
+    alt_deg: Sequence[float],
+    current: str | None,
+) -> str | None:
+    """The board key's choice: the next target in use after ``current``, or None after the last.
+
+    Candidates are the targets above the horizon (``alt_deg`` > 0), nearest the meridian first
+    (smallest ``|ha_hours|``): the one being imaged is most often near it.
+    """
+    rows = zip(names, ha_hours, alt_deg, strict=True)
+    order = [name for _, name in sorted((abs(float(ha)), name) for name, ha, alt in rows if float(alt) > 0.0)]
+    if current in order:
+        index = order.index(current) + 1
+        return order[index] if index < len(order) else None
+    return order[0] if order else None
+
+
+def pointable(target: Target) -> bool:
+    """A target a mount can point at: a catalogue place, or a planet, the Moon, a comet (placed now)."""
+    return target.ra_deg is not None or target.frame in (Frame.BODY, Frame.ORBIT)

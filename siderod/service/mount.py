@@ -25,7 +25,7 @@ from datetime import UTC, datetime, timedelta
 from typing import Any
 
 from siderod.common.clock import Clock
-from siderod.common.model import Config, EventKind, Frame, MountView, Urgency
+from siderod.common.model import Config, EventKind, MountView, Urgency
 from siderod.plan.mount import (
     LinkState,
     MountDue,
@@ -973,20 +973,14 @@ class MountDesk:
         Candidates are the configured targets above the horizon, nearest the meridian first (the
         one being imaged is most often near it); after the last one, nothing is in use.
         """
+        from siderod.plan.mount import next_target_in_use
         from siderod.plan.positions import compute_sky
 
         targets = [t for t in config.targets if _on_the_sky(t)]
-        order: list[str] = []
+        choice = None
         if targets:
             sky = compute_sky(config, self._clock.now_utc().timestamp(), targets=targets)
-            rows = zip(sky.names, sky.ha_hours, sky.alt_deg, strict=True)
-            up = [(abs(float(ha)), name) for name, ha, alt in rows if float(alt) > 0.0]
-            order = [name for _, name in sorted(up)]
-        if self.in_use in order:
-            index = order.index(self.in_use) + 1
-            choice = order[index] if index < len(order) else None
-        else:
-            choice = order[0] if order else None
+            choice = next_target_in_use(sky.names, sky.ha_hours, sky.alt_deg, self.in_use)
         await self.use(choice, "board")
         return choice
 
@@ -1004,6 +998,8 @@ class MountDesk:
         return self.watch.view(self.in_use, self.in_use_source)
 
 
-def _on_the_sky(target) -> bool:
-    """A target the mount can point at: a catalogue place, or a planet, the Moon, a comet (placed now)."""
-    return target.ra_deg is not None or target.frame in (Frame.BODY, Frame.ORBIT)
+def _on_the_sky(target: Any) -> bool:
+    """A target the mount can point at (``siderod.plan.mount.pointable``)."""
+    from siderod.plan.mount import pointable
+
+    return pointable(target)
