@@ -50,13 +50,16 @@ def register(subparsers: argparse._SubParsersAction) -> None:
         "mute", help="stop alerts for one target (for a while, or until unmuted)",
         description="Stop alerts for TARGET. Without --for it stays muted until `siderod unmute`.",
     )
-    mute.add_argument("target", metavar="TARGET", help="a target name from the configuration")
+    mute.add_argument("target", metavar="TARGET", nargs="?", help="a target name from the configuration")
+    mute.add_argument("--tag", metavar="TAG",
+                      help="mute every target with this tag in the service's configuration instead")
     mute.add_argument(
         "--for", dest="for_seconds", metavar="DURATION", type=_duration_arg,
         help="how long, e.g. 90m, 2h, 1h30m, 1d (units d, h, m, s)",
     )
     unmute = subparsers.add_parser("unmute", help="give alerts for a muted target again")
-    unmute.add_argument("target", metavar="TARGET", help="a muted target's name")
+    unmute.add_argument("target", metavar="TARGET", nargs="?", help="a muted target's name")
+    unmute.add_argument("--tag", metavar="TAG", help="unmute every target with this tag instead")
     reload = subparsers.add_parser(
         "reload", help="re-read the configuration now",
         description="Validate the configuration and target files and switch to them; on any error the "
@@ -98,6 +101,16 @@ def run(args: argparse.Namespace) -> int:
 
     verb = args.control_verb
     request: dict[str, Any] = {"op": verb}
+    if verb in ("mute", "unmute"):
+        if bool(args.target) == bool(args.tag):
+            print(f"siderod {verb}: give a TARGET or --tag TAG (one of the two)", file=sys.stderr)
+            return 2  # a malformed command line (siderod.cli.main.EXIT_USAGE)
+        if args.tag:
+            try:
+                return _by_tag(verb, args)
+            except ControlError as e:
+                print(f"siderod: the service refused {verb}: {e}", file=sys.stderr)
+                return EXIT_REFUSED
     if verb == "mute":
         request.update(target=args.target, for_seconds=args.for_seconds)
     elif verb == "unmute":
@@ -120,6 +133,39 @@ def run(args: argparse.Namespace) -> int:
     except BadReply as e:
         print(f"siderod: the service's status could not be read: {e}", file=sys.stderr)
         return EXIT_FAILURE
+    return EXIT_OK
+
+
+def _by_tag(verb: str, args: argparse.Namespace) -> int:
+    """Mute or unmute every target carrying ``args.tag`` in the configuration the service runs.
+
+    The tag is looked up in the service's own configuration file (its path comes from `status`),
+    so the names match the targets it plans; each target is then one ordinary request.
+    """
+    import difflib
+
+    from siderod.files.config import load_config
+    from siderod.service.control import request_once
+
+    socket_path = _socket_path(args)
+    answer = request_once(socket_path, {"op": "status"}, timeout_seconds=_TIMEOUT_SECONDS["status"])
+    status = _snapshot_json(answer)
+    config = load_config(status.get("config_path") or None, os.environ)
+    names = [t.name for t in config.targets if args.tag in t.tags]
+    if not names:
+        tags = sorted({tag for t in config.targets for tag in t.tags})
+        close = difflib.get_close_matches(args.tag, tags, n=1, cutoff=0.6)
+        hint = f' -- did you mean "{close[0]}"?' if close else ""
+        print(f"siderod {verb}: no target has the tag {args.tag!r} in {config.path}{hint}; tags in use: "
+              f"{', '.join(tags) or '(none)'}", file=sys.stderr)
+        return EXIT_REFUSED
+    for name in names:
+        request: dict[str, Any] = {"op": verb, "target": name}
+        if verb == "mute":
+            request["for_seconds"] = args.for_seconds
+        result = request_once(socket_path, request, timeout_seconds=_TIMEOUT_SECONDS[verb])
+        args.target = name
+        _report_result(verb, args, result)
     return EXIT_OK
 
 

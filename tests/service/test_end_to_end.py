@@ -238,6 +238,15 @@ def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanl
         assert done.returncode == 1 and "no target named 'Nothing'" in done.stderr, done.stderr
         done = siderod(env, "mute", "Betelguese")
         assert done.returncode == 1 and 'did you mean "Betelgeuse"' in done.stderr, done.stderr
+        # Tags do something: mute and unmute take one (issue 13, item 15).
+        done = siderod(env, "mute", "--tag", "nebula", "--for", "1h")
+        assert done.returncode == 0, done.stderr
+        muted = status_json(env)["muted"]
+        assert {"M42", "North America", "Crab Nebula"} <= set(muted) and "M31" not in muted
+        assert siderod(env, "unmute", "--tag", "nebula").returncode == 0
+        assert not {"M42", "North America", "Crab Nebula"} & set(status_json(env)["muted"])
+        done = siderod(env, "mute", "--tag", "nebulae")
+        assert done.returncode == 1 and 'did you mean "nebula"' in done.stderr, done.stderr
         # Naming the service's own file is no mix; naming another one must never put that file's
         # targets beside the service's alerts without a word (issue 13, item 10).
         done = siderod(env, "watch", "--once", "--config", str(config))
