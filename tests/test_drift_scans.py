@@ -228,3 +228,35 @@ def test_the_board_shows_the_source_in_each_beam_and_the_next_with_its_countdown
     assert during[0].startswith("◎ Dish  in beam Vega leaves in ")
     assert f"leaves in {format_countdown((leave - centre).total_seconds())}" in during[0]
     assert beam_lines(enter - timedelta(minutes=3))[1].startswith("◎ Horn  beam empty  ·  next Sun in ")
+
+
+@pytest.mark.slow
+def test_the_moon_as_a_source_matches_astropy_topocentric():
+    # A moving source with a parallax of about 1 deg: the Moon through a meridian beam at its
+    # declination on the demo evening (it culminates near 16:30 UTC at about -14.2 deg).
+    from astropy import units as u
+    from astropy.coordinates import EarthLocation, HADec, get_body
+    from astropy.time import Time
+    from astropy.utils import iers
+
+    iers.conf.auto_download = False
+    text = ('[[target]]\nname = "Moon"\nbody = "moon"\n\n[[target]]\nname = "Dish"\n'
+            'frame = "fixed-pointing"\nha = 0\ndec = "-14.2"\nbeam = 2\nsources = ["Moon"]\n')
+    config = _config(text)
+    rows = _beam_rows(compute_agenda(config, START, 12.0), "Dish", "Moon")
+    kinds = [e.kind for e in rows.records()]
+    assert kinds == [EventKind.BEAM_ENTER, EventKind.BEAM_CENTRE, EventKind.BEAM_LEAVE]
+    t = rows.time_unix
+    grid = np.arange(t[0] - 600, t[2] + 600, SCAN_SECONDS)
+    when = Time(grid, format="unix", scale="utc")
+    when.delta_ut1_utc = 0.0
+    place = EarthLocation.from_geodetic(LON * u.deg, LAT * u.deg, HEIGHT * u.m)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # astropy's IERS table may be older than the demo night
+        seen = get_body("moon", when).transform_to(HADec(obstime=when, location=place, pressure=0 * u.hPa))
+    sep = np.degrees(erfa.seps(0.0, math.radians(-14.2), seen.ha.rad, seen.dec.rad))
+    edges, centre = _crossings(grid, sep, 1.0)
+    assert edges.size == 2
+    assert abs(t[0] - edges[0]) < BEAM_EVENT_TOLERANCE_SECONDS
+    assert abs(t[2] - edges[1]) < BEAM_EVENT_TOLERANCE_SECONDS
+    assert abs(t[1] - centre) < CENTRE_TOLERANCE_SECONDS

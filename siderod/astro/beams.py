@@ -39,6 +39,7 @@ from siderod.astro.events import (
     TargetTrack,
     _mark_candidates,
     _wrap12,
+    _wrap24,
     in_window,
 )
 
@@ -89,7 +90,19 @@ def find_beam_events(track: TargetTrack, last_hours_at, latitude_deg: float, bea
     if math.cos(dp) < _POLE_COS or idx.size == 0:
         return _empty()
     k = _DIURNAL_ABERRATION_RAD * math.cos(latitude_deg * DEG_RAD)
-    _, dec_mid = track.radec_at(track.mid_unix, idx)
+    if track.parallax_coeffs is None:
+        _, dec_mid = track.radec_at(track.mid_unix, idx)
+    else:
+        # A moving body (the Moon: parallax ~1 deg, 5 deg a day in declination): its topocentric
+        # declination seen at its first passage of the axis's hour angle in the window sets the
+        # first guesses; the refinement below follows it from there. (A second passage in the
+        # same piece starts from that guess too.)
+        t0, t1 = float(start_unix), float(end_unix)
+        h0, _ = track.hadec_at(np.full(idx.shape, t0), last_hours_at, idx)
+        rate = np.maximum(SIDEREAL_RATE_HOURS_PER_SECOND - track.ra_rate_at(t0, idx),
+                          0.1 * SIDEREAL_RATE_HOURS_PER_SECOND)
+        passage = np.clip(t0 + _wrap24(float(beam_ha_hours) - h0) / rate, t0, t1)
+        _, dec_mid = _seen_hadec(track, last_hours_at, passage, idx, k)
     # The declination test: only sources whose path reaches the beam's declination span (the
     # ellipse's north-south extent, plus the arcs a wide beam bulges by) can meet it.
     reach = max(b, a) if half_width_dec_deg is not None else a
