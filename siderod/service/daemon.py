@@ -807,23 +807,26 @@ class Service:
         """Replay the writes that failed, in order, once the ledger can be written again."""
         while True:
             await self._clock.sleep(LEDGER_RETRY_SECONDS)
-            if not self.ledger_error:
-                continue
-            while self._unwritten:
-                what, write = self._unwritten[0]
-                try:
-                    write()
-                except sqlite3.Error as exc:
-                    log.debug("ledger still not writable (%s): %s", what, exc)
-                    break
-                self._unwritten.pop(0)
-            else:
-                count = len(self._claimed_unwritten)
-                self._claimed_unwritten.clear()
-                self.ledger_error = ""
-                log.warning("the alert ledger %s can be written again; %d alerts sent meanwhile are recorded",
-                            self._ledger_path, count)
+            if self.ledger_error and self._replay_unwritten():
                 await self.replan("ledger writable again")
+
+    def _replay_unwritten(self) -> bool:
+        """Write what could not be written, in order; True if all of it is written now."""
+        while self._unwritten:
+            what, write = self._unwritten[0]
+            try:
+                write()
+            except sqlite3.Error as exc:
+                log.debug("ledger still not writable (%s): %s", what, exc)
+                return False
+            self._unwritten.pop(0)
+        count = len(self._claimed_unwritten)
+        self._claimed_unwritten.clear()
+        if self.ledger_error:
+            self.ledger_error = ""
+            log.warning("the alert ledger %s can be written again; %d alerts sent meanwhile are recorded",
+                        self._ledger_path, count)
+        return True
 
     def _channel_snapshot(self) -> tuple[ChannelHealth, ...]:
         assert self._ledger is not None
@@ -960,6 +963,9 @@ class Service:
         # Let each send in flight finish and reach the ledger: a cancelled send is the one thing
         # that could make the next start resend it. What is still owed stays in the ledger.
         await self._stop_workers()
+        if self._unwritten and not self._replay_unwritten():
+            log.error("stopping with %d ledger writes not made (%s); the next start may repeat the alerts"
+                      " sent since the ledger stopped taking writes", len(self._unwritten), self.ledger_error)
         raise _StopRequested
 
     # -- helpers -------------------------------------------------------------------------------

@@ -12,7 +12,6 @@ bookkeeping lives in ``ChannelHealthBook`` so that a failed channel shows in ``s
 from __future__ import annotations
 
 import asyncio
-import contextlib
 import heapq
 import itertools
 import logging
@@ -151,12 +150,14 @@ class DesktopChannel:
     ``on_dispatched`` fired, and after any failure the notifier is closed and rebuilt.
 
     A send that times out may still reach the screen: the server got the call and will show it
-    once it runs again. So the channel notes which server (its unique bus name) timed out on
-    which alert key, and a retry of that key first asks: if the same server now answers, it has
-    worked through its queue and shown the earlier copy, so the retry succeeds without sending
-    again; if it still does not answer, the retry fails without queueing another copy; if another
-    server has taken its place, the old copy went with the old server and the alert is sent anew.
-    The user sees one notification per alert.
+    once it runs again. So a timed-out send is not abandoned: it goes on in the background on the
+    same connection, and the channel notes which server (its unique bus name) timed out on which
+    alert key. A retry of that key first looks: if the earlier send has since been answered, the
+    alert was shown and the retry succeeds without sending again; if the same server now answers
+    a check, it has worked through its queue (the earlier call included), so likewise; if it
+    still does not answer, the retry fails without queueing another copy; if another server has
+    taken its place and the earlier send never got an answer, the copy went with the old server
+    and the alert is sent anew. The user sees one notification per alert.
 
     A critical alert (one with an event kind) carries an Acknowledge button when
     ``on_acknowledge`` is given, and plays a sound unless ``critical_sound`` is False. The button
@@ -178,29 +179,53 @@ class DesktopChannel:
         self._critical_sound = critical_sound
         self.on_acknowledge = on_acknowledge  # the service sets it when it was built without one
         self._notifier: Any = None
+        # Notifiers set aside while a send of theirs is still under way (closed with the channel).
+        self._retired: list[Any] = []
         self._probe_bus: Any = None
-        # alert key -> unique bus name of the server that timed out on it (it may show it later)
-        self._unconfirmed: dict[str, str] = {}
+        # alert key -> (unique bus name of the server that timed out on it, the send still under way,
+        # its dispatched flag): the server may show it later
+        self._unconfirmed: dict[str, tuple[str | None, asyncio.Future[Any], asyncio.Event]] = {}
 
     async def send(self, message: AlertMessage) -> None:
         owner = await self._server_owner()
-        earlier_owner = self._unconfirmed.pop(message.key, None)
-        if earlier_owner is not None and owner == earlier_owner:
+        earlier = self._unconfirmed.pop(message.key, None)
+        if earlier is not None:
+            earlier_owner, pending, dispatched = earlier
+            if pending.done() and dispatched.is_set():
+                log.info("the notification server answered the earlier send of %s after all; not sent again",
+                         message.key)
+                return
+        if earlier is not None and not pending.done() and owner is not None and owner == earlier_owner:
             if await self._server_answers(owner):
                 log.info("the notification server came back and showed %s from before; not sent again",
                          message.key)
                 return
-            self._unconfirmed[message.key] = earlier_owner
+            self._unconfirmed[message.key] = earlier
             raise ChannelFailed(
                 f"the notification server did not answer within {self._send_timeout_seconds:g} s, and still"
                 " does not (is it hung?); this alert waits in its queue, so it is not sent again"
             )
+        if earlier is not None:
+            # Its server is gone, or refused it: so is the copy it was sending. Start afresh.
+            earlier[1].cancel()
+            await self._drop_notifier()
+        backend = getattr(self._notifier, "_backend", None)
+        if backend is not None and getattr(backend, "interface", 1) is None \
+                and getattr(backend, "bus", None) is not None:
+            # Its connection is still being set up by a send that timed out (or that set-up failed):
+            # desktop-notifier would set up a second one over it and leak the first. Set it aside;
+            # a send still under way on it keeps it until the channel closes.
+            if any(not p.done() for _, p, _ in self._unconfirmed.values()):
+                self._retired.append(self._notifier)
+                self._notifier = None
+            else:
+                await self._drop_notifier()
         try:
             await self._send_now(message)
         except _TimedOut as exc:
-            if owner is not None:
-                self._unconfirmed[message.key] = owner
-            raise ChannelFailed(str(exc)) from None
+            pending, dispatched = exc.args[1], exc.args[2]
+            self._unconfirmed[message.key] = (owner, pending, dispatched)
+            raise ChannelFailed(str(exc.args[0])) from None
 
     async def _send_now(self, message: AlertMessage) -> None:
         from desktop_notifier import Button, DesktopNotifier, Sound
@@ -227,18 +252,17 @@ class DesktopChannel:
         backend_log = logging.getLogger("desktop_notifier")
         backend_log.addHandler(captured)
         backend_log.propagate = False
+        sending = asyncio.ensure_future(self._notifier.send(
+            message.title, message.body, urgency=urgency, on_dispatched=dispatched.set, **extras
+        ))
         try:
-            await asyncio.wait_for(
-                self._notifier.send(
-                    message.title, message.body, urgency=urgency, on_dispatched=dispatched.set, **extras
-                ),
-                self._send_timeout_seconds,
-            )
+            # shield: on a timeout the call goes on, so a late answer still tells us it was shown
+            await asyncio.wait_for(asyncio.shield(sending), self._send_timeout_seconds)
         except TimeoutError:
-            await self._drop_notifier()
+            sending.add_done_callback(_ignore_result)
             raise _TimedOut(
                 f"the notification server did not answer within {self._send_timeout_seconds:g} s"
-                " (is it hung? the alert went to the other channels)"
+                " (is it hung? the alert went to the other channels)", sending, dispatched
             ) from None
         except Exception as exc:  # desktop-notifier normally swallows these; be safe if not
             await self._drop_notifier()
@@ -255,11 +279,15 @@ class DesktopChannel:
             )
 
     async def close(self) -> None:
+        for _, pending, _ in self._unconfirmed.values():
+            pending.cancel()
+        self._unconfirmed.clear()
         await self._drop_notifier()
+        retired, self._retired = self._retired, []
+        for notifier in retired:
+            await _close_bus(getattr(getattr(notifier, "_backend", None), "bus", None))
         bus, self._probe_bus = self._probe_bus, None
-        if bus is not None:
-            with contextlib.suppress(Exception):
-                bus.disconnect()
+        await _close_bus(bus)
 
     async def _probe(self, destination: str, path: str, interface: str, member: str,
                      body: Sequence[Any] = (), signature: str = "") -> Any:
@@ -277,9 +305,7 @@ class DesktopChannel:
             )
         except Exception:  # no bus, a hung server, a broken connection: we only learn "no answer"
             bus, self._probe_bus = self._probe_bus, None
-            if bus is not None:
-                with contextlib.suppress(Exception):
-                    bus.disconnect()
+            await _close_bus(bus)
             return None
         if reply is None or reply.message_type != MessageType.METHOD_RETURN:
             return None
@@ -310,7 +336,22 @@ class DesktopChannel:
 
 
 class _TimedOut(Exception):
-    """A desktop send timed out (the server may still show it)."""
+    """A desktop send timed out (the server may still show it): (message, the send, dispatched)."""
+
+
+async def _close_bus(bus: Any) -> None:
+    if bus is None:
+        return
+    try:
+        bus.disconnect()
+        await asyncio.wait_for(bus.wait_for_disconnect(), _PROBE_TIMEOUT_SECONDS)
+    except Exception:  # a broken bus may fail to close; it is being thrown away anyway
+        log.debug("closing a D-Bus connection failed", exc_info=True)
+
+
+def _ignore_result(future: asyncio.Future[Any]) -> None:
+    if not future.cancelled():
+        future.exception()  # retrieved, so asyncio does not log "exception never retrieved"
 
 
 # How long the desktop channel waits for the bus or the server to answer a check.

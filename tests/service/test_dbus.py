@@ -297,3 +297,39 @@ async def test_a_replaced_server_gets_the_alert_the_hung_one_never_showed(notify
             second.wait()
             second.stdout.close()
     assert [g["summary"] for g in _records(second_record)] == [flip.title]
+
+
+async def test_a_server_that_showed_the_alert_before_it_was_replaced_gets_no_second_copy(
+        notify_server, session_bus, tmp_path):
+    """Found by the fault harness: the hung server came back and showed the alert, then was replaced
+    before the retry; the retry must not send it again to the new one."""
+    process, record = notify_server
+    channel = DesktopChannel(send_timeout_seconds=SEND_TIMEOUT_SECONDS)
+    flip = _message("M42: meridian flip due now", key="M42|flip-due|2026-12-14T21:13:05Z|0")
+    second_record = tmp_path / "second.jsonl"
+    second = None
+    try:
+        await channel.send(_message("before the hang"))
+        process.send_signal(signal.SIGSTOP)
+        with pytest.raises(ChannelFailed, match="did not answer"):
+            await channel.send(flip)
+        process.send_signal(signal.SIGCONT)
+        deadline = time.monotonic() + START_TIMEOUT_SECONDS
+        while flip.title not in [g["summary"] for g in _records(record)]:
+            assert time.monotonic() < deadline, "the server did not show the queued alert"
+            await asyncio.sleep(0.01)
+        process.kill()
+        process.wait()
+        second = subprocess.Popen([sys.executable, str(SERVER), str(second_record)], stdout=subprocess.PIPE,
+                                  stderr=subprocess.DEVNULL,
+                                  env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus))
+        assert _read_line(second, "second notify_server") == "ready"
+        await channel.send(flip)  # the retry: the first server answered, so nothing is sent
+    finally:
+        await channel.close()
+        if second is not None:
+            second.kill()
+            second.wait()
+            second.stdout.close()
+    assert [g["summary"] for g in _records(record)] == ["before the hang", flip.title]
+    assert _records(second_record) == []
