@@ -19,6 +19,7 @@ import asyncio
 import itertools
 import json
 import sys
+import time
 
 from dbus_fast.aio import MessageBus
 from dbus_fast.service import ServiceInterface, dbus_method, dbus_signal
@@ -56,6 +57,8 @@ class RecordingNotifications(ServiceInterface):
             "actions": list(actions),
             "hints": {k: _plain(v.value) for k, v in hints.items()},
             "expire_timeout": expire_timeout,
+            "replaces_id": replaces_id,
+            "received_unix": time.time(),
         }
         with open(self._record_path, "a", encoding="utf-8") as f:
             f.write(json.dumps(record) + "\n")
