@@ -682,24 +682,31 @@ def _target_rows(inputs: BoardInputs) -> list[_Row]:
         next_event = _first_after(events, None, now_unix)
         culm = _first_after(events, EventKind.CULMINATION, now_unix)
         culm_seconds, culm_usable = math.inf, True
+        fixed = sky.frames[i] == "fixed-pointing"
         if culm is not None:
             culm_seconds = culm.time_utc.timestamp() - now_unix
             culm_usable = culm.usable is not False
-        elif not have_agenda:  # the agenda is still being worked out: from the hour angle
+        elif not fixed:
+            # Not in the agenda (still being worked out, or beyond a short window_hours): from the
+            # hour angle, as the sky turns (sidereal rate).
             culm_seconds = ((-ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0
         flip_text = limit_text = ""
         flip_style = limit_style = "siderod.countdown"
         urgent = False
         # The flip states follow the hour angle, for targets the event engine gives flips for
         # (or for all while the agenda is still being worked out).
-        flips_apply = gem and (not have_agenda or _has_kind(events, EventKind.TRACKING_LIMIT))
+        # A target up now gets them too when the window is too short to hold its next flip.
+        flips_apply = gem and not fixed and (not have_agenda or up
+                                             or _has_kind(events, EventKind.TRACKING_LIMIT))
         if flips_apply:
             flip = _first_after(events, EventKind.FLIP_DUE, now_unix)
             limit = _first_after(events, EventKind.TRACKING_LIMIT, now_unix)
-            if flip is not None:
-                flip_text = format_countdown(flip.time_utc.timestamp() - now_unix)
-            if limit is not None:
-                limit_text = format_countdown(limit.time_utc.timestamp() - now_unix)
+            flip_seconds = (flip.time_utc.timestamp() - now_unix if flip is not None
+                            else ((flip_hours - ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0)
+            limit_seconds = (limit.time_utc.timestamp() - now_unix if limit is not None
+                             else ((limit_hours - ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0)
+            flip_text = format_countdown(flip_seconds)
+            limit_text = format_countdown(limit_seconds)
             if flip_hours <= ha_now < limit_hours and up:
                 flip_text, flip_style, urgent = "DUE", "siderod.flip.due", True
             elif limit_hours <= ha_now < limit_hours + PAST_LIMIT_SHOWN_HOURS and up:
@@ -710,7 +717,7 @@ def _target_rows(inputs: BoardInputs) -> list[_Row]:
         next_seconds = next_event.time_utc.timestamp() - now_unix if next_event is not None else math.inf
         rows.append(_Row(
             name=name, ha_hours=ha_now, dec_deg=dec[i], alt_deg=alt[i], az_deg=az[i], airmass=airmass[i],
-            rising=bool(rising[i]), fixed=sky.frames[i] == "fixed-pointing", up=up, muted=muted,
+            rising=bool(rising[i]), fixed=fixed, up=up, muted=muted,
             near_sun=sun_up_enough and sun_sep[i] < SUN_CAUTION_SEPARATION_DEG,
             culm_seconds=culm_seconds, culm_usable=culm_usable,
             flip_text=flip_text, flip_style=flip_style, limit_text=limit_text, limit_style=limit_style,

@@ -470,3 +470,25 @@ def test_the_readme_picture_has_our_own_frame_and_fetches_nothing(tmp_path):
     committed = (Path(__file__).resolve().parents[2] / "config" / "demo-view.svg").read_text(encoding="utf-8")
     assert 'class="siderod-board"' in committed
     assert "@font-face" not in committed and "<circle" not in committed
+
+
+@pytest.mark.slow
+def test_culmination_and_flip_countdowns_are_shown_beyond_a_short_window():
+    # With window_hours = 2 the next culmination of most targets lies beyond the agenda, and the
+    # "culm in" and "flip in" cells were blank.
+    from dataclasses import replace
+
+    from siderod.files.config import load_config
+    from siderod.plan.agenda import compute_agenda
+    from siderod.view.board import inputs_from_config
+
+    config = load_config(None, env={}, at_unix=DEMO_INSTANT_UTC.timestamp())
+    config = replace(config, events=replace(config.events, window_hours=2.0))
+    agenda = compute_agenda(config, DEMO_INSTANT_UTC, 2.0)
+    text = record(render_board(inputs_from_config(config, DEMO_INSTANT_UTC, agenda=agenda), 140, None),
+                  width=140, height=200)
+    header = next(line for line in text.splitlines() if "culm in" in line)
+    vega = next(line for line in text.splitlines() if line.startswith("Vega"))
+    # Vega is at HA +9h11m: its culmination is 14h45m away (24 h - 9h11m of sidereal time, by hand).
+    assert column_cell(header, vega, "culm in", 7).strip() == "14h45m"
+    assert column_cell(header, vega, "flip in", 7).strip() == "14h55m"
