@@ -590,9 +590,16 @@ def _alert_lines(inputs: BoardInputs, width: int) -> list[Text]:
         mark = "! " if alert.urgency is Urgency.CRITICAL else "  "
         countdown = format_countdown((alert.due_utc - now_utc).total_seconds())
         out.append(_line(width, (label if i == 0 else " " * len(label), "siderod.label"),
-                         (f"{alert.due_utc.astimezone(zone):%H:%M} ", "siderod.time"),
+                         (_clock_on_day(alert.due_utc, now_utc, zone), "siderod.time"),
                          (f"in {countdown:<6} ", "siderod.countdown"), (mark, style), (alert.title, style)))
     return out
+
+
+def _clock_on_day(when_utc: datetime, now_utc: datetime, zone: Any) -> str:
+    """``"22:39 "`` today (site time); ``"Tue 00:05 "`` on another day, so tomorrow's alert is not
+    read as today's."""
+    local, today = when_utc.astimezone(zone), now_utc.astimezone(zone)
+    return f"{local:%H:%M} " if local.date() == today.date() else f"{local:%a %H:%M} "
 
 
 def _event_name(event: str) -> str:
@@ -610,6 +617,7 @@ def _delivery_lines(inputs: BoardInputs, width: int) -> list[Text]:
     if not deliveries:
         return [_line(width, (label, "siderod.label"), ("nothing yet", "siderod.dim"))]
     zone = _zone(inputs.config.site.timezone)
+    now_utc = inputs.now_utc
     out = []
     for i, d in enumerate(deliveries[:2]):
         if not d.ok:
@@ -619,7 +627,7 @@ def _delivery_lines(inputs: BoardInputs, width: int) -> list[Text]:
         else:
             state = ("on time ", "siderod.delivery.ok")
         out.append(_line(width, (label if i == 0 else " " * len(label), "siderod.label"),
-                         (f"{d.delivered_utc.astimezone(zone):%H:%M} ", "siderod.time"),
+                         (_clock_on_day(d.delivered_utc, now_utc, zone), "siderod.time"),
                          (f"{d.channel} ", "siderod.dim"), state, (d.title or d.key, "siderod.value")))
     return out
 
