@@ -19,6 +19,7 @@ from __future__ import annotations
 import json
 import os
 import re
+import shutil
 import signal
 import sqlite3
 import subprocess
@@ -135,6 +136,8 @@ class Harness:
         self.bus: subprocess.Popen | None = None
         self.notify: subprocess.Popen | None = None
         self._notifies: list[subprocess.Popen] = []
+        self._runtime_dirs: list[Path] = []
+        self.bus_dir = self.work / "bus"  # replaced by a short directory when the bus starts
         self.service: subprocess.Popen | None = None
         self.events: list[tuple[float, str]] = []
         self.kill_times: list[float] = []
@@ -160,6 +163,8 @@ class Harness:
                 process.stdout.close()
         if self.disk_dir is not None:
             free(self.disk_dir)
+        for directory in (self.work, self.bus_dir, *self._runtime_dirs):
+            shutil.rmtree(directory, ignore_errors=True)
 
     def _write_config(self) -> None:
         from siderod.files.config import load_config
@@ -216,6 +221,7 @@ class Harness:
     def start_service(self) -> None:
         runs_before = self._runs()
         runtime = Path(tempfile.mkdtemp(prefix="sfr", dir="/tmp"))
+        self._runtime_dirs.append(runtime)
         env = dict(os.environ, HOME=str(self.work), XDG_STATE_HOME=str(self.state_base),
                    XDG_RUNTIME_DIR=str(runtime), XDG_CONFIG_HOME=str(self.work / "cfg"), TZ="UTC",
                    DBUS_SESSION_BUS_ADDRESS=self.bus_address, PYTHONPATH=str(REPO), PYTHONUNBUFFERED="1")
