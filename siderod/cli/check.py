@@ -70,6 +70,15 @@ def format_summary(config: Any, how_found: str) -> str:
         per_frame[target.frame.value] = per_frame.get(target.frame.value, 0) + 1
     frames = ", ".join(f"{count} {frame}" for frame, count in per_frame.items()) or "none"
     lines.append(f"targets: {len(config.targets)} ({frames}) from {len(config.target_files)} file(s)")
+    for target in config.targets:
+        if target.beam_ha_deg is None or not target.beam_sources:
+            continue
+        width = (f"{target.beam_ha_deg:g}°" if target.beam_ha_deg == target.beam_dec_deg
+                 else f"{target.beam_ha_deg:g}° × {target.beam_dec_deg:g}° (HA × Dec)")
+        lines.append(f"beam: {target.name}, {width}: {', '.join(target.beam_sources)}")
+        if "sun" in target.beam_sources:
+            lines.append(f"caution: {target.name} has the Sun as a source: radio only; never point "
+                         "unfiltered optics at or near the Sun.")
     bodies = [t.name for t in config.targets if t.body is not None]
     orbits = [t for t in config.targets if t.orbit is not None]
     if bodies or orbits:

@@ -17,6 +17,9 @@ def test_demo_summary(capsys, demo_config_path):
     assert "Corrie Hill Observatory" in out
     assert ("targets: 20 (11 icrs, 2 galactic, 1 ecliptic, 1 ecliptic-of-date, 2 fixed-pointing, 2 body, "
             "1 orbit)" in out)
+    assert "beam: Drift scan +41, 5°: M31, Cygnus X, Vega" in out
+    assert "beam: Solar horn, 12° × 4° (HA × Dec): sun" in out
+    assert "caution: Solar horn has the Sun as a source: radio only; never point" in out
     assert "flip-due: 10, 0 (critical)" in out
     assert "moving: Jupiter, Moon (JPL ephemeris); Comet Corrie Hill (elements of 2026-12-01)" in out
     assert "mount's own limits always win" in out
