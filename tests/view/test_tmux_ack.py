@@ -10,7 +10,9 @@ from __future__ import annotations
 
 import json
 import math
+import os
 import shutil
+import signal
 import subprocess
 import sys
 import time
@@ -88,8 +90,28 @@ class _Tmux:
             time.sleep(0.1)  # a real process draws the pane
 
     def kill(self) -> None:
+        # kill-server alone hangs up the pane, and siderod run takes SIGHUP as "reload": it would
+        # outlive the test. Stop the service itself first, as systemd would, then the terminal.
+        pane_pid = subprocess.run(["tmux", "-L", self.socket_name, "display-message", "-p", "-t", "ui",
+                                   "#{pane_pid}"], env=self.env, capture_output=True, text=True, timeout=10,
+                                  check=False).stdout.strip()
+        if pane_pid.isdigit():
+            _stop(int(pane_pid))
         subprocess.run(["tmux", "-L", self.socket_name, "kill-server"], env=self.env, capture_output=True,
                        timeout=10, check=False)
+
+
+def _stop(pid: int) -> None:
+    """SIGTERM, a bounded wait for the process to go, then SIGKILL."""
+    try:
+        os.kill(pid, signal.SIGTERM)
+        end = time.monotonic() + 15.0
+        while time.monotonic() < end:
+            os.kill(pid, 0)  # raises once the process is gone
+            time.sleep(0.1)
+        os.kill(pid, signal.SIGKILL)
+    except ProcessLookupError:
+        pass
 
 
 def _status(env: dict[str, str]) -> dict:
