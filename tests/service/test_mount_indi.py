@@ -176,12 +176,17 @@ async def _run(*argv: str) -> str:
     return out.decode()
 
 
+# indi_setprop and indi_getprop wait this long for the property to be defined (default 2 s: too
+# short for a driver starting on a loaded machine).
+PROPERTY_WAIT_SECONDS = "10"
+
+
 async def _setprop(port: int, spec: str) -> None:
-    await _run("indi_setprop", "-p", str(port), spec)
+    await _run("indi_setprop", "-p", str(port), "-t", PROPERTY_WAIT_SECONDS, spec)
 
 
 async def _getprop(port: int, spec: str) -> str:
-    return (await _run("indi_getprop", "-p", str(port), "-1", spec)).strip()
+    return (await _run("indi_getprop", "-p", str(port), "-t", PROPERTY_WAIT_SECONDS, "-1", spec)).strip()
 
 
 async def _start_server(port: int, log_path) -> asyncio.subprocess.Process:
@@ -196,6 +201,9 @@ async def _start_server(port: int, log_path) -> asyncio.subprocess.Process:
         with contextlib.suppress(OSError):
             _, writer = await asyncio.open_connection("127.0.0.1", port)
             writer.close()
+            await writer.wait_closed()
+            # Listening is not enough: wait until the driver has defined its properties.
+            await _getprop(port, f"{DEVICE}.CONNECTION.CONNECT")
             return process
         await asyncio.sleep(0.1)
     raise AssertionError("indiserver did not listen")
