@@ -27,6 +27,7 @@ import logging
 import os
 import signal
 import sqlite3
+import sys
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import replace
 from datetime import UTC, datetime, timedelta
@@ -1045,7 +1046,7 @@ class Service:
         # A worker thread keeps the loop answering (status, alerts, watchdog) during slow work.
         # Tests under FakeClock run it inline so that simulated time cannot run on meanwhile.
         if self._offload_planning:
-            return await asyncio.to_thread(work)
+            return await asyncio.to_thread(_yielding_the_lock_often, work)
         return work()
 
     @staticmethod
@@ -1200,3 +1201,21 @@ def _first_lines(text: str, count: int) -> str:
 def _iso(when: datetime) -> str:
     return when.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
 
+
+def _yielding_the_lock_often(work: Callable[[], Any]) -> Any:
+    """Run pure-Python work in a thread that hands the interpreter lock back to the loop often.
+
+    A worker thread alone does not keep the loop answering: by default CPython lets a busy thread
+    hold the lock for 5 ms at a time, and the loop needs it several times to answer one request,
+    so `status` replies took up to half a second during a big reload. A 0.5 ms switch interval
+    while the work runs keeps them near a millisecond of CPU each; the default comes back after.
+    """
+    sys.setswitchinterval(min(_DEFAULT_SWITCH_SECONDS, 0.0005))
+    try:
+        return work()
+    finally:
+        sys.setswitchinterval(_DEFAULT_SWITCH_SECONDS)
+
+
+# The interpreter's own interval, read once: overlapping workers then restore the same value.
+_DEFAULT_SWITCH_SECONDS = sys.getswitchinterval()
