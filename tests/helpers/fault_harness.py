@@ -31,6 +31,7 @@ from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
+from helpers.session_bus import BUS_CONFIG
 from helpers.smalldisk import fill, free
 
 REPO = Path(__file__).resolve().parents[2]
@@ -42,19 +43,6 @@ RECEIVE_SLACK_SECONDS = 3.0
 START_TIMEOUT_SECONDS = 60.0  # Python, numpy and the first agenda on a loaded two-core machine
 POLL_SECONDS = 0.05
 
-BUS_CONFIG = """<!DOCTYPE busconfig PUBLIC "-//freedesktop//DTD D-BUS Bus Configuration 1.0//EN"
- "http://www.freedesktop.org/standards/dbus/1.0/busconfig.dtd">
-<busconfig>
-  <type>session</type>
-  <listen>unix:dir={dir}</listen>
-  <auth>EXTERNAL</auth>
-  <policy context="default">
-    <allow send_destination="*" eavesdrop="true"/>
-    <allow eavesdrop="true"/>
-    <allow own="*"/>
-  </policy>
-</busconfig>
-"""
 
 HOOK_CODE = ("import json, sys, time; f = open(sys.argv[1], 'a'); "
              "f.write(json.dumps([sys.argv[2], sys.argv[3], time.time()]) + chr(10))")

@@ -20,6 +20,7 @@ from datetime import timedelta
 from pathlib import Path
 
 import pytest
+from helpers.session_bus import BUS_CONFIG as _BUS_CONFIG
 
 from siderod.common.model import EventKind, Urgency
 from siderod.service.delivery import AlertMessage, ChannelFailed, DesktopChannel, LogChannel
@@ -32,19 +33,6 @@ SEND_TIMEOUT_SECONDS = 0.5  # short in tests; 5 s in production
 # A bounded send gives up within its timeout plus event-loop slack.
 BOUNDED_SLACK_SECONDS = 1.0
 
-_BUS_CONFIG = """<!DOCTYPE busconfig PUBLIC "-//freedesktop//DTD D-BUS Bus Configuration 1.0//EN"
- "http://www.freedesktop.org/standards/dbus/1.0/busconfig.dtd">
-<busconfig>
-  <type>session</type>
-  <listen>unix:dir={dir}</listen>
-  <auth>EXTERNAL</auth>
-  <policy context="default">
-    <allow send_destination="*" eavesdrop="true"/>
-    <allow eavesdrop="true"/>
-    <allow own="*"/>
-  </policy>
-</busconfig>
-"""
 
 
 @pytest.fixture

@@ -18,6 +18,7 @@ from pathlib import Path
 
 import pytest
 from helpers import service_fakes as fakes
+from helpers.session_bus import BUS_CONFIG as _BUS_CONFIG
 
 from siderod.common.clock import FakeClock
 from siderod.common.model import ClockHealth, Event, EventKind
@@ -31,19 +32,6 @@ START_TIMEOUT_SECONDS = 10.0  # the bus and the server each print one line when 
 BUS_WAIT_SECONDS = 30.0  # the longest real wait for something to cross the bus (a loaded machine)
 FLIP_UTC = fakes.NIGHT_START_UTC + timedelta(minutes=5)
 
-_BUS_CONFIG = """<!DOCTYPE busconfig PUBLIC "-//freedesktop//DTD D-BUS Bus Configuration 1.0//EN"
- "http://www.freedesktop.org/standards/dbus/1.0/busconfig.dtd">
-<busconfig>
-  <type>session</type>
-  <listen>unix:dir={dir}</listen>
-  <auth>EXTERNAL</auth>
-  <policy context="default">
-    <allow send_destination="*" eavesdrop="true"/>
-    <allow eavesdrop="true"/>
-    <allow own="*"/>
-  </policy>
-</busconfig>
-"""
 
 
 @pytest.fixture
