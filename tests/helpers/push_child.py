@@ -16,7 +16,6 @@ from __future__ import annotations
 import asyncio
 import importlib.util
 import sys
-import time
 from datetime import timedelta
 from pathlib import Path
 from types import SimpleNamespace
@@ -36,22 +35,6 @@ def load_fakes():
     sys.modules[spec.name] = module
     spec.loader.exec_module(module)
     return module
-
-
-class ScaledClock:
-    def __init__(self, base_utc, epoch_unix: float, speed: float) -> None:
-        self._base_utc = base_utc
-        self._epoch_unix = epoch_unix
-        self._speed = speed
-
-    def now_utc(self):
-        return self._base_utc + timedelta(seconds=(time.time() - self._epoch_unix) * self._speed)
-
-    def monotonic(self) -> float:
-        return time.monotonic() * self._speed
-
-    async def sleep(self, seconds: float) -> None:
-        await asyncio.sleep(max(0.0, seconds) / self._speed)
 
 
 def events(fakes, count: int):
@@ -94,7 +77,7 @@ def main(argv: list[str]) -> int:
     for name, url in (("a", f"json://127.0.0.1:{port}/a"), ("b", f"ntfy://127.0.0.1:{port}/b")):
         channels.append(PushChannel(PushDestination(name=name, url=url, masked_url=check_url(url).masked,
                                                     timeout_seconds=5.0)))
-    clock = ScaledClock(fakes.NIGHT_START_UTC, epoch, speed)
+    clock = fakes.ScaledClock(fakes.NIGHT_START_UTC, epoch, speed)
     paths = SimpleNamespace(ledger_path=state_dir / "ledger.sqlite3", socket_path=state_dir / "control.sock",
                             lock_path=state_dir / "service.lock")
     service = Service(

@@ -11,40 +11,12 @@ alert key to SENT_LOG (one write(2) with O_APPEND), which is what the test count
 from __future__ import annotations
 
 import asyncio
-import importlib.util
 import os
 import sys
-import time
 from datetime import timedelta
-from pathlib import Path
 
 FIRST_DUE_SECONDS = 30.0
 SPACING_SECONDS = 10.0
-
-
-def _load_fakes():
-    path = Path(__file__).resolve().parent / "service_fakes.py"
-    spec = importlib.util.spec_from_file_location("siderod_test_helpers_service_fakes", path)
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-class ScaledClock:
-    def __init__(self, base_utc, epoch_unix: float, speed: float) -> None:
-        self._base_utc = base_utc
-        self._epoch_unix = epoch_unix
-        self._speed = speed
-
-    def now_utc(self):
-        return self._base_utc + timedelta(seconds=(time.time() - self._epoch_unix) * self._speed)
-
-    def monotonic(self) -> float:
-        return time.monotonic() * self._speed
-
-    async def sleep(self, seconds: float) -> None:
-        await asyncio.sleep(max(0.0, seconds) / self._speed)
 
 
 class FileChannel:
@@ -80,12 +52,13 @@ def main(argv: list[str]) -> int:
     import logging
 
     logging.basicConfig(level=logging.INFO, stream=sys.stderr, format="%(name)s %(levelname)s %(message)s")
-    fakes = _load_fakes()
+    import service_fakes as fakes  # this script's folder is first on sys.path
+
     from siderod.common.model import EventKind
     from siderod.service.daemon import Service
     from siderod.service.scheduling import ClockScheduler
 
-    clock = ScaledClock(fakes.NIGHT_START_UTC, epoch, speed)
+    clock = fakes.ScaledClock(fakes.NIGHT_START_UTC, epoch, speed)
     config = fakes.make_config(
         targets=tuple(f"T{i:03d}" for i in range(count)),
         lead_minutes={EventKind.CULMINATION: (0.0,)},

@@ -11,6 +11,7 @@ occurs; the astronomy of events is tested with the agenda, not here.
 from __future__ import annotations
 
 import asyncio
+import time
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 
@@ -37,6 +38,28 @@ CORRIE_HILL = Site(
     timezone="Europe/London",
 )
 NIGHT_START_UTC = datetime(2026, 12, 14, 16, 0, tzinfo=UTC)
+
+
+class ScaledClock:
+    """Real time, sped up: ``base_utc + (time.time() - epoch_unix) * speed``.
+
+    For service children that are killed and restarted (tests/helpers/push_child.py,
+    restart_child.py): simulated time runs on while the process is dead, as real time would.
+    """
+
+    def __init__(self, base_utc: datetime, epoch_unix: float, speed: float) -> None:
+        self._base_utc = base_utc
+        self._epoch_unix = epoch_unix
+        self._speed = speed
+
+    def now_utc(self) -> datetime:
+        return self._base_utc + timedelta(seconds=(time.time() - self._epoch_unix) * self._speed)
+
+    def monotonic(self) -> float:
+        return time.monotonic() * self._speed
+
+    async def sleep(self, seconds: float) -> None:
+        await asyncio.sleep(max(0.0, seconds) / self._speed)
 
 
 @dataclass
