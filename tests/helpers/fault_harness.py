@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
-from helpers.session_bus import BUS_CONFIG
+from helpers.session_bus import BUS_CONFIG, read_first_line
 from helpers.smalldisk import fill, free
 
 REPO = Path(__file__).resolve().parents[2]
@@ -194,7 +194,7 @@ class Harness:
         self.bus = subprocess.Popen(
             ["dbus-daemon", f"--config-file={self.bus_dir / 'bus.conf'}", "--nofork", "--print-address=1"],
             stdout=subprocess.PIPE, stderr=subprocess.DEVNULL)
-        self.bus_address = _read_line(self.bus, "dbus-daemon")
+        self.bus_address = read_first_line(self.bus, "dbus-daemon")
 
     # -- the parts ----------------------------------------------------------------------------
     def start_notify(self) -> None:
@@ -204,7 +204,7 @@ class Harness:
                                        stderr=subprocess.DEVNULL,
                                        env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=self.bus_address))
         self._notifies.append(self.notify)
-        assert _read_line(self.notify, "notify_server") == "ready"
+        assert read_first_line(self.notify, "notify_server") == "ready"
 
     def start_service(self) -> None:
         runs_before = self._runs()
@@ -386,18 +386,3 @@ def _mean_lst_hours(when: datetime, longitude_deg: float) -> float:
     jd = when.timestamp() / 86400.0 + 2440587.5
     gmst = erfa.gmst06(jd, 0.0, jd + 69.184 / 86400.0, 0.0)
     return ((gmst * 12.0 / 3.141592653589793) + longitude_deg / 15.0) % 24.0
-
-
-def _read_line(process: subprocess.Popen, what: str) -> str:
-    os.set_blocking(process.stdout.fileno(), False)
-    deadline = time.monotonic() + 10.0
-    data = b""
-    while b"\n" not in data:
-        if time.monotonic() > deadline or process.poll() is not None:
-            raise AssertionError(f"{what} did not start")
-        chunk = process.stdout.read()
-        if chunk:
-            data += chunk
-        else:
-            time.sleep(0.005)
-    return data.split(b"\n", 1)[0].decode().strip()

@@ -21,6 +21,7 @@ from pathlib import Path
 
 import pytest
 from helpers.session_bus import BUS_CONFIG as _BUS_CONFIG
+from helpers.session_bus import START_TIMEOUT_SECONDS, read_first_line
 
 from siderod.common.model import EventKind, Urgency
 from siderod.service.delivery import AlertMessage, ChannelFailed, DesktopChannel, LogChannel
@@ -28,7 +29,6 @@ from siderod.service.delivery import AlertMessage, ChannelFailed, DesktopChannel
 pytestmark = [pytest.mark.slow, pytest.mark.needs_dbus]
 
 SERVER = Path(__file__).resolve().parents[1] / "helpers" / "notify_server.py"
-START_TIMEOUT_SECONDS = 10.0  # the bus and the server each print one line when ready
 SEND_TIMEOUT_SECONDS = 0.5  # short in tests; 5 s in production
 # A bounded send gives up within its timeout plus event-loop slack.
 BOUNDED_SLACK_SECONDS = 1.0
@@ -49,7 +49,7 @@ def session_bus(tool, monkeypatch):
             stderr=subprocess.DEVNULL,  # "Failed to set fd limit" without CAP_SYS_RESOURCE: harmless
         )
         try:
-            address = _read_line(process, "dbus-daemon")
+            address = read_first_line(process, "dbus-daemon")
             monkeypatch.setenv("DBUS_SESSION_BUS_ADDRESS", address)
             yield address
         finally:
@@ -69,28 +69,13 @@ def notify_server(session_bus, tmp_path):
         env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus),
     )
     try:
-        assert _read_line(process, "notify_server") == "ready"
+        assert read_first_line(process, "notify_server") == "ready"
         yield process, record
     finally:
         process.send_signal(signal.SIGCONT)  # in case a test left it stopped
         process.kill()
         process.wait()
         process.stdout.close()
-
-
-def _read_line(process: subprocess.Popen, what: str) -> str:
-    os.set_blocking(process.stdout.fileno(), False)
-    deadline = time.monotonic() + START_TIMEOUT_SECONDS
-    data = b""
-    while b"\n" not in data:
-        if time.monotonic() > deadline or process.poll() is not None:
-            raise AssertionError(f"{what} did not start")
-        chunk = process.stdout.read()
-        if chunk:
-            data += chunk
-        else:
-            time.sleep(0.005)
-    return data.split(b"\n", 1)[0].decode().strip()
 
 
 def _records(path: Path) -> list[dict]:
@@ -276,7 +261,7 @@ async def test_a_replaced_server_gets_the_alert_the_hung_one_never_showed(notify
         second = subprocess.Popen([sys.executable, str(SERVER), str(second_record)], stdout=subprocess.PIPE,
                                   stderr=subprocess.DEVNULL,
                                   env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus))
-        assert _read_line(second, "second notify_server") == "ready"
+        assert read_first_line(second, "second notify_server") == "ready"
         await channel.send(flip)
     finally:
         await channel.close()
@@ -311,7 +296,7 @@ async def test_a_server_that_showed_the_alert_before_it_was_replaced_gets_no_sec
         second = subprocess.Popen([sys.executable, str(SERVER), str(second_record)], stdout=subprocess.PIPE,
                                   stderr=subprocess.DEVNULL,
                                   env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus))
-        assert _read_line(second, "second notify_server") == "ready"
+        assert read_first_line(second, "second notify_server") == "ready"
         await channel.send(flip)  # the retry: the first server answered, so nothing is sent
     finally:
         await channel.close()

@@ -19,6 +19,7 @@ from pathlib import Path
 import pytest
 from helpers import service_fakes as fakes
 from helpers.session_bus import BUS_CONFIG as _BUS_CONFIG
+from helpers.session_bus import read_first_line
 
 from siderod.common.clock import FakeClock
 from siderod.common.model import ClockHealth, Event, EventKind
@@ -28,7 +29,6 @@ from siderod.service.scheduling import ClockScheduler
 pytestmark = [pytest.mark.slow, pytest.mark.needs_dbus]
 
 SERVER = Path(__file__).resolve().parents[1] / "helpers" / "notify_server.py"
-START_TIMEOUT_SECONDS = 10.0  # the bus and the server each print one line when ready
 BUS_WAIT_SECONDS = 30.0  # the longest real wait for something to cross the bus (a loaded machine)
 FLIP_UTC = fakes.NIGHT_START_UTC + timedelta(minutes=5)
 
@@ -45,14 +45,14 @@ def desktop(tool, monkeypatch, tmp_path):
                                stdout=subprocess.PIPE, stderr=subprocess.DEVNULL)
         server = None
         try:
-            address = _read_line(bus, "dbus-daemon")
+            address = read_first_line(bus, "dbus-daemon")
             monkeypatch.setenv("DBUS_SESSION_BUS_ADDRESS", address)
             record = tmp_path / "notify.jsonl"
             server = subprocess.Popen([sys.executable, str(SERVER), str(record), "--commands"],
                                       stdin=subprocess.PIPE, stdout=subprocess.PIPE,
                                       stderr=subprocess.DEVNULL,
                                       env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=address))
-            assert _read_line(server, "notify_server") == "ready"
+            assert read_first_line(server, "notify_server") == "ready"
             yield server, record
         finally:
             for process in (server, bus):
@@ -64,21 +64,6 @@ def desktop(tool, monkeypatch, tmp_path):
                 process.stdout.close()
                 if process.stdin:
                     process.stdin.close()
-
-
-def _read_line(process: subprocess.Popen, what: str) -> str:
-    os.set_blocking(process.stdout.fileno(), False)
-    deadline = time.monotonic() + START_TIMEOUT_SECONDS
-    data = b""
-    while b"\n" not in data:
-        if time.monotonic() > deadline or process.poll() is not None:
-            raise AssertionError(f"{what} did not answer")
-        chunk = process.stdout.read()
-        if chunk:
-            data += chunk
-        else:
-            time.sleep(0.005)
-    return data.split(b"\n", 1)[0].decode().strip()
 
 
 def _records(path: Path) -> list[dict]:
@@ -130,7 +115,7 @@ async def test_pressing_acknowledge_on_the_desktop_stops_the_repeats(desktop, tm
 
     server.stdin.write(f"press {ACKNOWLEDGE_BUTTON}\n".encode())
     server.stdin.flush()
-    assert _read_line(server, "notify_server").startswith("pressed ")
+    assert read_first_line(server, "notify_server").startswith("pressed ")
     await _until(lambda: service._ledger.acknowledged() == {"M42|flip-due|2026-12-14T16:05:00Z"},
                  "the acknowledgement")
     await _until(lambda: not service.snapshot().awaiting_ack, "the repeats to be planned away")
