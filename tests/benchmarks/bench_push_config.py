@@ -16,11 +16,10 @@ import argparse
 import os
 import pathlib
 import shutil
-import statistics
-import subprocess
 import sys
 import tempfile
-import time
+
+from wall_medians import median_wall_seconds
 
 DEMO = pathlib.Path(__file__).resolve().parents[2] / "siderod" / "demo"
 _DIR = pathlib.Path(tempfile.mkdtemp(prefix="siderod-bench-push-"))
@@ -58,16 +57,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=7)
     runs = parser.parse_args().runs
-    medians = {}
-    for name, argv in CASES.items():
-        subprocess.run(argv, capture_output=True)  # warm the file cache
-        samples = []
-        for _ in range(runs):
-            start = time.perf_counter()
-            subprocess.run(argv, capture_output=True)
-            samples.append(time.perf_counter() - start)
-        medians[name] = statistics.median(samples)
-        print(f"{name:70s} median {medians[name] * 1000:6.0f} ms")
+    medians = median_wall_seconds(CASES, runs, width=70)
     shutil.rmtree(_DIR, ignore_errors=True)
     print(f"\nquick verb with push destinations / without: {medians[WITH_PUSH] / medians[PLAIN]:.2f}x; "
           f"check with push: {medians[CHECK]:.2f} s, of which apprise's load is about "

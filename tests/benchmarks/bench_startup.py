@@ -16,11 +16,10 @@ from __future__ import annotations
 import argparse
 import pathlib
 import shutil
-import statistics
-import subprocess
 import sys
 import tempfile
-import time
+
+from wall_medians import median_wall_seconds
 
 DEMO = pathlib.Path(__file__).resolve().parents[2] / "siderod" / "demo"
 _STAR_ONLY_DIR = pathlib.Path(tempfile.mkdtemp(prefix="siderod-bench-"))
@@ -50,17 +49,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=9)
     runs = parser.parse_args().runs
-    medians = {}
-    for name, argv in CASES.items():
-        subprocess.run(argv, capture_output=True)  # warm the file cache
-        samples = []
-        for _ in range(runs):
-            start = time.perf_counter()
-            subprocess.run(argv, capture_output=True)
-            samples.append(time.perf_counter() - start)
-        medians[name] = statistics.median(samples)
-        print(f"{name:55s} median {medians[name] * 1000:7.0f} ms  (min {min(samples) * 1000:.0f}, "
-              f"max {max(samples) * 1000:.0f})")
+    medians = median_wall_seconds(CASES, runs, width=55)
     ours = medians[STAR_CASE]
     planets = medians[NOW_CASE]
     reference = medians["astropy Time.sidereal_time('apparent') (reference)"]
