@@ -20,7 +20,7 @@ from siderod.common.errors import ConfigErrors
 from siderod.common.model import EventKind
 from siderod.files.config import parse_config
 from siderod.plan.agenda import compute_agenda, event_to_json
-from siderod.plan.planner import plan_alerts
+from siderod.plan.planner import parse_alert_key, plan_alerts
 from tests.helpers.horizon_reference import ErfaStar, Site
 
 #: The issue's requirement: enter, centre and leave within 1 s of the brute-force reference.
@@ -174,6 +174,40 @@ def test_beam_alerts_are_planned_with_their_leads_and_muted_like_other_kinds():
                                          now_utc=START) if a.event.target == "Horn"]
     assert [a.event.kind for a in sun_alerts] == [EventKind.BEAM_CENTRE]
     assert "never point unfiltered optics at or near the Sun" in sun_alerts[0].body
+
+
+def test_two_sources_centring_in_the_same_second_get_an_alert_each():
+    """Two sources 1 deg apart in declination whose right ascensions differ by the 0.73 s that
+    precession and aberration put between their apparent places, so that they cross the meridian
+    beam's centre in the same second: each gets its own alert (the key names the source)."""
+    twins = """[[target]]
+name = "Twin A"
+ra = "6h00m00s"
+dec = "+20.0"
+
+[[target]]
+name = "Twin B"
+ra = "5h59m59.27s"
+dec = "+21.0"
+
+[[target]]
+name = "Meridian"
+frame = "fixed-pointing"
+ha = "0h"
+dec = "+20.5"
+beam = 4
+sources = ["Twin A", "Twin B"]
+alerts = { beam-centre = [0] }
+"""
+    config = _config(twins)
+    agenda = compute_agenda(config, START, 24.0, targets=["Meridian"], kinds={EventKind.BEAM_CENTRE})
+    centres = sorted((e.beam_source, e.time_utc) for e in agenda.events)
+    assert [source for source, _ in centres] == ["Twin A", "Twin B"]
+    assert abs((centres[0][1] - centres[1][1]).total_seconds()) < 0.2
+    alerts = plan_alerts(agenda, config, muted={}, now_utc=START)
+    assert sorted(a.event.beam_source for a in alerts) == ["Twin A", "Twin B"]
+    assert len({a.key for a in alerts}) == 2
+    assert {parse_alert_key(a.key)[:2] for a in alerts} == {("Meridian", "beam-centre")}
 
 
 def test_the_kind_filter_and_a_source_filtered_out_of_the_window_still_work():

@@ -280,14 +280,21 @@ def alert_key(event: Event, lead_minutes: float) -> str:
     The event time is rounded to the nearest second, so two agenda runs that find the same
     event a few milliseconds apart give the same key in all but the rare case of straddling a
     half second; the ledger also matches keys whose event times differ by a few seconds.
+
+    A drift-scan event names its source after the kind (``Dish|beam-centre:Vega|...``): two
+    sources may pass through one beam in the same second, and each is an alert of its own.
     """
     target = event.target if event.target is not None else SKY_TARGET_NAME
     when = _round_to_second(event.time_utc).strftime("%Y-%m-%dT%H:%M:%SZ")
-    return f"{target}|{event.kind.value}|{when}|{_format_lead(lead_minutes)}"
+    kind = event.kind.value
+    if event.beam_source is not None:
+        kind = f"{kind}:{event.beam_source.replace('|', '/')}"
+    return f"{target}|{kind}|{when}|{_format_lead(lead_minutes)}"
 
 
 def parse_alert_key(key: str) -> tuple[str, str, datetime, float]:
-    """Split a key made by ``alert_key`` into (target, kind value, event time UTC, lead minutes).
+    """Split a key made by ``alert_key`` into (target, kind value, event time UTC, lead minutes);
+    a drift-scan key's source is left out of the kind.
 
     Raises:
         ValueError: the text is not a key made by ``alert_key``.
@@ -296,6 +303,7 @@ def parse_alert_key(key: str) -> tuple[str, str, datetime, float]:
     if len(parts) != 4:
         raise ValueError(f"not an alert key (expected target|kind|time|lead): {key!r}")
     target, kind, when, lead = parts
+    kind = kind.split(":", 1)[0]
     event_utc = datetime.strptime(when, "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=UTC)
     return target, kind, event_utc, float(lead)
 
