@@ -52,11 +52,12 @@ def test_plain_toml_tables_give_the_same_targets_as_the_full_reader():
     fast_count = 0
     for number, entry in enumerate(entries, start=1):
         prefix = f"target[{number}]"
-        fast = _plain_target(Problems("t.toml", text), entry, prefix)
+        source = f"t.toml:{Problems('t.toml', text).line_of(prefix)}"
+        fast = _plain_target(entry, source)
         if fast is None:
             continue
         fast_count += 1
         problems = Problems("t.toml", text)
-        assert fast == _one_target(problems, entry, prefix), entry
+        assert fast == _one_target(problems, entry, prefix, source), entry
         assert not problems.errors
     assert fast_count > 50  # the shortcut is used for a good share of them

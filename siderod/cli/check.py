@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+from collections import Counter
 from collections.abc import Mapping
 from typing import Any
 
@@ -65,10 +66,9 @@ def format_summary(config: Any, how_found: str) -> str:
     lines.append(f"  air {pressure}, {site.temperature_c:g} °C; horizon profile: "
                  + (f"{len(site.horizon)} points" if site.horizon else "flat (0°)"))
     lines.append(f"time: DUT1 {config.time.dut1_seconds:+.4f} s ({config.time.dut1_source})")
-    per_frame: dict[str, int] = {}
-    for target in config.targets:
-        per_frame[target.frame.value] = per_frame.get(target.frame.value, 0) + 1
-    frames = ", ".join(f"{count} {frame}" for frame, count in per_frame.items()) or "none"
+    # Counted by member, spelled once per frame: an enum's .value per target cost 0.1 s at 200k.
+    per_frame = Counter(target.frame for target in config.targets)
+    frames = ", ".join(f"{count} {frame.value}" for frame, count in per_frame.items()) or "none"
     lines.append(f"targets: {len(config.targets)} ({frames}) from {len(config.target_files)} file(s)")
     for target in config.targets:
         if target.beam_ha_deg is None or not target.beam_sources:
@@ -187,7 +187,7 @@ def _hold_lines(alerts: Any) -> list[str]:
 
 #: The runtime dependencies in pyproject.toml (tzdata, Windows only, aside), for --doctor's versions line.
 _RUNTIME_DISTRIBUTIONS = ("numpy", "jplephem", "skyfield-data", "apscheduler", "rich", "desktop-notifier",
-                          "icalendar", "pyongc", "indipyclient", "tomlkit", "apprise")
+                          "icalendar", "pyongc", "indipyclient", "tomlkit", "tomli", "apprise")
 
 
 def format_doctor(config: Any, path: str, how_found: str, env: Mapping[str, str]) -> str:

@@ -109,19 +109,27 @@ def collect_targets_toml(problems: Problems) -> tuple[Target, ...]:
         problems.add("target", show_value(entries), "[[target]] tables, one per target")
         return ()
     targets: list[Target] = []
-    first_use: dict[str, str] = {}
+    first_use: dict[str, int] = {}  # name -> number of the table that used it first
+    path = problems.path
+    headers = problems.header_lines("target")  # the table's line is each target's source
     for number, entry in enumerate(entries, start=1):
         prefix = f"target[{number}]"
-        target = _plain_target(problems, entry, prefix)
+        line = headers[number - 1] if headers is not None else problems.line_of(prefix)
+        source = f"{path}:{line}"
+        # Each table is let go once read, so the parsed document and the targets are not both
+        # held whole at the peak (about a third less memory for a big file).
+        entries[number - 1] = None
+        target = _plain_target(entry, source)
         if target is None:
-            target = _one_target(problems, entry, prefix)
+            target = _one_target(problems, entry, prefix, source)
         if target is None:
             continue
-        if target.name in first_use:
+        first = first_use.setdefault(target.name, number)
+        if first != number:
             problems.add(f"{prefix}.name", show_value(target.name),
-                         f"a unique name (already used by {first_use[target.name]})")
+                         f"a unique name (already used by target[{first}] at line "
+                         f"{problems.line_of(f'target[{first}]')})")
             continue
-        first_use[target.name] = f"{prefix} at line {problems.line_of(prefix)}"
         targets.append(target)
     return tuple(targets)
 
@@ -169,10 +177,11 @@ def collect_targets_csv(problems: Problems) -> tuple[Target, ...]:
 _PLAIN_KEYS = frozenset({"name", "ra", "dec"})
 
 
-def _plain_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Target | None:
+def _plain_target(entry: dict[str, Any], source: str) -> Target | None:
     """The target of a table holding only a name, a plain RA and a plain Dec; None for any other
     table (which :func:`_one_target` then reads and checks in full). Built exactly as
-    ``_one_target`` builds it; a big TOML catalogue is mostly such tables (issue 13 item 4)."""
+    ``_one_target`` builds it; a big TOML catalogue is mostly such tables (issue 13 item 4).
+    ``source`` is ``file:line`` of the table."""
     if entry.keys() != _PLAIN_KEYS:
         return None
     name, ra, dec = entry["name"], entry["ra"], entry["dec"]
@@ -188,8 +197,7 @@ def _plain_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Tar
     if ra_deg is None or dec_deg is None:
         return None
     return Target(name=name, frame=Frame.ICRS, lon_deg=ra_deg, lat_deg=dec_deg, ra_deg=ra_deg,
-                  dec_deg=dec_deg,
-                  source=f"{problems.path}:{problems.line_of(prefix)}")
+                  dec_deg=dec_deg, source=source)
 
 
 # A plain decimal, with an "h" or "d" unit or none: most rows of a big catalogue.
@@ -279,11 +287,11 @@ def _csv_rows(problems: Problems) -> Iterator[tuple[int, list[str]]]:
         yield reader.line_num, row
 
 
-def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Target | None:
+def _one_target(problems: Problems, entry: dict[str, Any], prefix: str, source: str) -> Target | None:
     before = len(problems.errors)
     problems.unknown_keys(entry, TARGET_KEYS, prefix)
     if "body" in entry or "elements" in entry or (ORBIT_KEYS - {"epoch"}) & entry.keys():
-        return _moving_target(problems, entry, prefix, before)
+        return _moving_target(problems, entry, prefix, before, source)
     name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
     if isinstance(entry.get("frame"), str) and entry["frame"] in RENAMED_FRAMES:
         new = RENAMED_FRAMES[entry["frame"]]
@@ -329,7 +337,7 @@ def _one_target(problems: Problems, entry: dict[str, Any], prefix: str) -> Targe
     return Target(
         name=name, frame=frame, lon_deg=lon_deg, lat_deg=lat_deg, ra_deg=ra_deg, dec_deg=dec_deg,
         ha_hours=ha_hours, min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled,
-        source=f"{problems.path}:{problems.line_of(prefix)}", tags=tags,
+        source=source, tags=tags,
         catalogue_entry=looked_up[2] if looked_up else "", hour_angles_hours=marks, **motion, **beam,
     )
 
@@ -398,7 +406,8 @@ def _hour_angles(problems: Problems, entry: dict[str, Any], prefix: str) -> tupl
     return tuple(sorted(set(marks)))
 
 
-def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, before: int) -> Target | None:
+def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, before: int,
+                   source: str) -> Target | None:
     """A planet, the Moon (``body``) or a comet/asteroid (``elements`` or explicit element keys)."""
     name = read_string(problems, entry, "name", prefix, what="a target name in quotes")
     for key in sorted((_COORD_KEYS | {"frame", "equinox", "catalogue", "pm_ra", "pm_dec", "parallax", "rv",
@@ -429,7 +438,6 @@ def _moving_target(problems: Problems, entry: dict[str, Any], prefix: str, befor
     marks = _hour_angles(problems, entry, prefix)
     if len(problems.errors) > before or name is None or (body is None and orbit is None):
         return None
-    source = f"{problems.path}:{problems.line_of(prefix)}"
     extra = dict(min_altitude_deg=min_alt, lead_minutes=lead, alerts_enabled=alerts_enabled, tags=tags,
                  hour_angles_hours=marks)
     if orbit is not None:

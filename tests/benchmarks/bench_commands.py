@@ -1,6 +1,7 @@
 """Benchmark: the commands people run on big catalogues, whole process, against the record-by-record way.
 
 Run:  python tests/benchmarks/bench_commands.py [--targets 100000] [--now-targets 10000] [--skip-previous]
+      [--toml-targets 200000] [--toml-only]
 
 Each case is a fresh interpreter, timed from start to exit, with its peak resident memory (from
 ``wait4``); output goes to a file. The catalogue is invented (random RA/Dec, a fixed seed), watched from
@@ -12,6 +13,10 @@ with ``json.dump(indent=2)``; a rich table of every row; one icalendar component
 library's own writer). Its ratio is printed beside each case. Aims (issue 8): agenda --json for 1e5
 targets <= 2.5 s and <= 400 MB; the table and --ics no slower than --json; `now` for 10,000 targets
 <= 1 s as JSON and as a piped table.
+
+The TOML case (issue 13 item 4: 200,000 targets in at most 3 s, memory in proportion) prints CPU
+seconds, and compares `check` with the same command at the commit before tomli and the quick header
+index (extracted from git), and with each TOML parser alone reading the file.
 """
 
 from __future__ import annotations
@@ -135,10 +140,14 @@ def main() -> None:
     parser.add_argument("--toml-targets", type=int, default=200_000,
                         help="`check` on a TOML catalogue (0: skip)")
     parser.add_argument("--skip-previous", action="store_true", help="do not run the previous approaches")
+    parser.add_argument("--toml-only", action="store_true", help="run only the TOML `check` case")
     parser.add_argument("--previous-limit", type=float, default=300.0,
                         help="give up on a previous approach after this many seconds (printed as '>')")
     args = parser.parse_args()
     work = pathlib.Path(tempfile.mkdtemp(prefix="siderod-bench-"))
+    if args.toml_only:
+        bench_toml_check(args.toml_targets, work, skip_previous=args.skip_previous)
+        return
     (work / "big").mkdir()
     (work / "small").mkdir()
     big = make_catalogue(work / "big", args.targets)
@@ -156,13 +165,6 @@ def main() -> None:
         (f"now --json, {m} targets", [*now, "--json"], None),
         (f"now table (piped), {m} targets", now, [py, "-c", PREVIOUS_NOW_TABLE, str(small), FROM]),
     ]
-    if args.toml_targets:
-        (work / "toml").mkdir()
-        toml = make_toml_catalogue(work / "toml", args.toml_targets)
-        # The reference is the standard library's TOML parser alone, reading the same file.
-        read = f"import tomllib; tomllib.load(open({str(work / 'toml' / 'targets.toml')!r}, 'rb'))"
-        cases.append((f"check, {args.toml_targets:,} TOML targets",
-                      [py, "-m", "siderod", "check", "--config", str(toml)], [py, "-c", read]))
     print(f"{'case':44s} {'seconds':>8s} {'MB':>6s}   previous approach (s, MB, ratio)")
     for name, argv, previous in cases:
         seconds, mb = run(argv, work / "out")
@@ -176,6 +178,59 @@ def main() -> None:
             else:
                 line += f"   {p_seconds:7.2f} s {p_mb:5.0f} MB  {p_seconds / seconds:5.1f}x faster"
         print(line + f"   ({size:.0f} MB written to stdout)", flush=True)
+    if args.toml_targets:
+        bench_toml_check(args.toml_targets, work, skip_previous=args.skip_previous)
+
+
+#: The code before tomli and the quick [[target]] header index (tomllib, and the full key-line scan of
+#: every file): the "previous approach" of the TOML case, extracted from git into a scratch folder.
+PREVIOUS_TOML_COMMIT = "c28c9f7119f7758dca83fa3a706478773831c449"
+
+
+def bench_toml_check(count: int, work: pathlib.Path, *, skip_previous: bool) -> None:
+    """`check` on ``count`` [[target]] tables: CPU seconds and peak RSS, now and at PREVIOUS_TOML_COMMIT,
+    and the two parsers alone on the same file (aim, issue 13 item 4: <= 3 s, memory in proportion)."""
+    (work / "toml").mkdir()
+    config = make_toml_catalogue(work / "toml", count)
+    targets = work / "toml" / "targets.toml"
+    py = sys.executable
+    check = [py, "-m", "siderod", "check", "--config", str(config)]
+    rows = [(f"check, {count:,} TOML targets", check, ROOT)]
+    if not skip_previous:
+        previous = work / "previous"
+        previous.mkdir()
+        archive = subprocess.run(["git", "-C", str(ROOT), "archive", PREVIOUS_TOML_COMMIT, "siderod"],
+                                 capture_output=True)
+        if archive.returncode == 0:
+            subprocess.run(["tar", "-x", "-C", str(previous)], input=archive.stdout, check=True)
+            rows.append((f"  previous approach ({PREVIOUS_TOML_COMMIT[:7]}: tomllib)", check, previous))
+        else:
+            print(f"  (previous approach not run: {archive.stderr.decode().strip()})")
+    for parser in ("tomli", "tomllib"):
+        rows.append((f"  {parser} alone, parsing the file", [py, "-c", f"import {parser}; "
+                     f"{parser}.load(open({str(targets)!r}, 'rb'))"], ROOT))
+    print(f"\n{'case (whole process)':44s} {'CPU s':>8s} {'wall s':>7s} {'MB':>6s}  load average (1 min)")
+    figures = {}
+    for name, argv, root in rows:
+        cpu, wall, mb = _run_cpu(argv, root)
+        figures[name] = cpu
+        print(f"{name:44s} {cpu:8.2f} {wall:7.2f} {mb:6.0f}  {os.getloadavg()[0]:.2f}", flush=True)
+    now, before = figures[rows[0][0]], figures.get(rows[1][0]) if not skip_previous else None
+    if before is not None and rows[1][2] != ROOT:
+        print(f"previous approach / now: {before / now:.1f}x the CPU time")
+
+
+def _run_cpu(argv: list[str], root: pathlib.Path) -> tuple[float, float, float]:
+    """CPU seconds (user + system), wall seconds and peak RSS (MB) of one fresh process, imports from
+    ``root``."""
+    env = dict(os.environ, PYTHONPATH=str(root))
+    start = time.perf_counter()
+    process = subprocess.Popen(argv, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env, cwd=root)
+    _, status, usage = os.wait4(process.pid, 0)
+    wall = time.perf_counter() - start
+    if os.waitstatus_to_exitcode(status) != 0:
+        raise SystemExit(f"failed: {' '.join(argv)}")
+    return usage.ru_utime + usage.ru_stime, wall, usage.ru_maxrss / 1024.0
 
 
 if __name__ == "__main__":
