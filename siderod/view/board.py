@@ -9,7 +9,6 @@ README picture.
 
 from __future__ import annotations
 
-import bisect
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -17,6 +16,7 @@ from datetime import UTC, date, datetime, timedelta
 from typing import Any
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
+import numpy as np
 from rich.cells import cell_len, set_cell_size
 from rich.console import Group
 from rich.text import Text
@@ -33,6 +33,7 @@ from siderod.common.model import (
     ServiceSnapshot,
     Urgency,
 )
+from siderod.plan.table import KIND_CODES, EventTable
 from siderod.service.clockhealth import format_clock_warning
 from siderod.view.columns import ColumnSpec, choose_columns
 
@@ -49,6 +50,7 @@ __all__ = [
     "sidereal_hours_at",
     "format_countdown",
     "format_sidereal",
+    "agenda_events",
     "inputs_from_config",
 ]
 
@@ -106,7 +108,10 @@ class BoardInputs:
             shape (N,), plus Sun, Moon and sidereal scalars), or None before the first one.
         sky_utc: the instant ``sky`` was computed for; the clock is carried forward from it at
             the mean sidereal rate, which is exact to far below a millisecond over seconds.
-        events: agenda events sorted by time (events before ``now_utc`` are skipped).
+        events: the agenda's events sorted by time (those before ``now_utc`` are skipped): its
+            ``EventTable`` (what the live view passes: no record is made for an event not shown)
+            or ``Event`` records. Keep passing the same object from frame to frame: the board
+            indexes it once.
         snapshot: the running service's state, or None when the view is computed here.
         source: where the data comes from, in a few words, shown in the title line.
         local_alerts: alerts the service would plan (used when ``snapshot`` is None).
@@ -120,7 +125,7 @@ class BoardInputs:
     config: Config
     sky: Any | None
     sky_utc: datetime | None
-    events: tuple[Event, ...] = ()
+    events: tuple[Event, ...] | EventTable = ()
     snapshot: ServiceSnapshot | None = None
     source: str = ""
     local_alerts: tuple[PlannedAlert, ...] = ()
@@ -300,7 +305,7 @@ def inputs_from_config(
         config=config,
         sky=sky,
         sky_utc=now_utc,
-        events=tuple(agenda.events),
+        events=agenda_events(agenda),
         snapshot=snapshot,
         source=source,
         local_alerts=local_alerts,
@@ -308,6 +313,13 @@ def inputs_from_config(
         leap_known_good_until=leap_known_good_until,
         notices=notices,
     )
+
+
+def agenda_events(agenda: Any) -> tuple[Event, ...] | EventTable:
+    """What :attr:`BoardInputs.events` takes from an agenda: its event table when it has one (no
+    ``Event`` record is made for an event the board does not show), else its records."""
+    table = getattr(agenda, "table", None)
+    return table if isinstance(table, EventTable) else tuple(agenda.events)
 
 
 # -- the title -------------------------------------------------------------------------------------
@@ -346,12 +358,12 @@ def _render_body(inputs: BoardInputs, width: int, height: int | None) -> tuple[T
     info.extend(_beam_lines(inputs, width))
     warnings = _warning_lines(inputs, width)
     alert_lines, delivery_lines = _alert_lines(inputs, width), _delivery_lines(inputs, width)
-    rows = _target_rows(inputs)
+    row_count = len(inputs.sky.names) if inputs.sky is not None else 0
     columns, name_width = choose_columns(width, german_equatorial=_is_gem(inputs.config))
     table_header = _table_header(columns, name_width, width)
 
     if height is None:
-        table_rows = rows
+        shown_count = row_count
         shown_alerts, shown_deliveries = alert_lines[:5], delivery_lines[:3]
     else:
         fixed = len(info) + 1  # info lines and the table header
@@ -359,7 +371,7 @@ def _render_body(inputs: BoardInputs, width: int, height: int | None) -> tuple[T
         budget = height - fixed - len(warnings)
         shown_alerts, shown_deliveries = alert_lines[:1], delivery_lines[:1]
         extra_alerts, extra_deliveries = alert_lines[1:3], delivery_lines[1:2]
-        spare = budget - 2 - max(len(rows), MIN_TABLE_ROWS)
+        spare = budget - 2 - max(row_count, MIN_TABLE_ROWS)
         while spare > 0 and (extra_alerts or extra_deliveries):
             if extra_alerts:
                 shown_alerts.append(extra_alerts.pop(0))
@@ -367,15 +379,12 @@ def _render_body(inputs: BoardInputs, width: int, height: int | None) -> tuple[T
                 shown_deliveries.append(extra_deliveries.pop(0))
             spare -= 1
         row_budget = max(0, budget - len(shown_alerts) - len(shown_deliveries))
-        if row_budget < len(rows):
-            table_rows = rows[: max(0, row_budget - 1)]
-        else:
-            table_rows = rows
+        shown_count = max(0, row_budget - 1) if row_budget < row_count else row_count
     lines = [*info, *warnings, table_header]
-    for row in table_rows:
+    for row in _target_rows(inputs, shown_count):  # records for the rows shown, not for every target
         lines.append(_table_row(row, columns, name_width, width, now_utc))
-    if len(table_rows) < len(rows):
-        more = len(rows) - len(table_rows)
+    if shown_count < row_count:
+        more = row_count - shown_count
         lines.append(_line(width, (f"  ... {more} more target{'s' if more != 1 else ''} "
                                    "(a taller terminal shows more)", "siderod.dim")))
     lines.extend(shown_alerts)
@@ -421,7 +430,7 @@ def _sky_line(inputs: BoardInputs, width: int) -> Text:
         moon_pct = 100.0 * float(sky.moon_illuminated_fraction)
         fields.append((1, [("Moon ", "siderod.moon"), (f"{float(sky.moon_alt_deg):+.1f}°", "siderod.value"),
                            (f" {moon_pct:.0f}% lit", "siderod.dim")]))
-    next_sky = _next_sky_event(inputs.events, inputs.now_utc)
+    next_sky = _event_index(inputs.events).next_sky_event(inputs.now_utc.timestamp())
     if next_sky is not None:
         local = next_sky.time_utc.astimezone(_zone(inputs.config.site.timezone))
         fields.append((2, [("next ", "siderod.label"), (_SKY_WORDS.get(next_sky.kind, next_sky.kind.value),
@@ -436,14 +445,14 @@ def _sky_line(inputs: BoardInputs, width: int) -> Text:
 
 def _beam_lines(inputs: BoardInputs, width: int) -> list[Text]:
     """Per fixed pointing with a beam: the sources in the beam now and the next to enter."""
-    pointings = [t for t in inputs.config.targets if t.beam_ha_deg is not None and t.beam_sources]
+    pointings = _beam_pointings(inputs.config.targets)
     if not pointings:
         return []
     index = _event_index(inputs.events)
     now_unix = inputs.now_utc.timestamp()
     out = []
     for pointing in pointings[:BEAM_LINES_SHOWN]:
-        inside, coming = _beam_state(index.get(pointing.name), now_unix)
+        inside, coming = _beam_state(index, pointing.name, now_unix)
         parts = [("◎ ", "siderod.label"), (f"{pointing.name}  ", "siderod.value")]
         if inside:
             first = inside[0]
@@ -462,46 +471,56 @@ def _beam_lines(inputs: BoardInputs, width: int) -> list[Text]:
     return out
 
 
-def _beam_state(events: _TargetEvents | None, now_unix: float) -> tuple[list[Event], Event | None]:
+_POINTINGS_CACHE: list[Any] = [None, []]  # (the targets tuple looked at last, its beam pointings)
+
+
+def _beam_pointings(targets: Sequence[Any]) -> list[Any]:
+    # Memoised on the identity of the targets tuple: it changes only when the configuration does.
+    if _POINTINGS_CACHE[0] is not targets:
+        _POINTINGS_CACHE[:] = [targets, [t for t in targets if t.beam_ha_deg is not None and t.beam_sources]]
+    return _POINTINGS_CACHE[1]
+
+
+def _beam_state(index: _EventIndex, pointing: str, now_unix: float) -> tuple[list[Event], Event | None]:
     """(the leave events of the sources in the beam now, the next entry) from a pointing's events.
 
     A source is in the beam when its first event after now is its centre or its leaving; only the
     next :data:`BEAM_SCAN_EVENTS` events are read, so a frame costs the same for any source list.
     """
-    if events is None or None not in events.by_kind:
+    rows = index.rows_ahead(pointing, now_unix, BEAM_SCAN_EVENTS)
+    if rows.size == 0:
         return [], None
-    times, items = events.by_kind[None]
-    seen: set[str | None] = set()
-    inside: list[Event] = []
+    kinds = index.table.kind[rows].tolist()
+    sources = index.table.beam_source[rows].tolist()
+    times = index.time_unix[rows].tolist()
+    seen: set[int] = set()
+    inside: list[int] = []  # positions in ``rows``
     coming = None
-    start = bisect.bisect_left(times, now_unix)
-    for event in items[start:start + BEAM_SCAN_EVENTS]:
-        source = event.beam_source
+    for j, (kind, source) in enumerate(zip(kinds, sources, strict=True)):
         if source in seen:
             continue
         seen.add(source)
-        if event.kind is EventKind.BEAM_ENTER:
-            coming = coming or event
-        elif event.kind is EventKind.BEAM_LEAVE:
-            inside.append(event)
-        elif event.kind is EventKind.BEAM_CENTRE:
-            leave = next((e for e in items[start:start + BEAM_SCAN_EVENTS]
-                          if e.beam_source == source and e.kind is EventKind.BEAM_LEAVE
-                          and e.time_utc > event.time_utc), event)
+        if kind == _BEAM_ENTER:
+            coming = j if coming is None else coming
+        elif kind == _BEAM_LEAVE:
+            inside.append(j)
+        elif kind == _BEAM_CENTRE:
+            leave = next((m for m in range(len(kinds)) if sources[m] == source and kinds[m] == _BEAM_LEAVE
+                          and times[m] > times[j]), j)
             inside.append(leave)
-    inside.sort(key=lambda e: e.time_utc)
-    return inside, coming
+    inside.sort(key=times.__getitem__)
+    return ([index.record(int(rows[j])) for j in inside],
+            None if coming is None else index.record(int(rows[coming])))
 
 
 def _warning_lines(inputs: BoardInputs, width: int) -> list[Text]:
     out: list[Text] = []
     sky = inputs.sky
     if sky is not None and len(sky.names) and float(sky.sun_alt_deg) > SUN_CAUTION_SUN_ABOVE_DEG:
-        separations = [float(x) for x in sky.sun_separation_deg]
-        near = [name for name, sep in zip(sky.names, separations, strict=True)
-                if sep < SUN_CAUTION_SEPARATION_DEG]
-        if near:
-            names = ", ".join(near[:3]) + (f" +{len(near) - 3}" if len(near) > 3 else "")
+        near = np.flatnonzero(np.asarray(sky.sun_separation_deg, dtype=float) < SUN_CAUTION_SEPARATION_DEG)
+        if near.size:
+            names = (", ".join(sky.names[i] for i in near[:3].tolist())
+                     + (f" +{near.size - 3}" if near.size > 3 else ""))
             out.append(_line(width, ("CAUTION ", "siderod.danger"),
                              (f"{names} within {SUN_CAUTION_SEPARATION_DEG:g}° of the Sun: "
                               "never point unfiltered optics at or near the Sun", "siderod.warn")))
@@ -543,10 +562,8 @@ def _elements_lines(inputs: BoardInputs, width: int) -> list[Text]:
         return []
     out = []
     jd_now = inputs.now_utc.timestamp() / 86400.0 + 2440587.5
-    for i, name in enumerate(sky.names):
-        epoch = float(epochs[i])
-        if not math.isfinite(epoch):
-            continue
+    for i in np.flatnonzero(np.isfinite(np.asarray(epochs, dtype=float))).tolist():
+        name, epoch = sky.names[i], float(epochs[i])
         mag = float(sky.magnitude[i]) if sky.magnitude is not None else math.nan
         date = (datetime(2000, 1, 1, 12, tzinfo=UTC) + timedelta(days=epoch - 2451545.0)).strftime("%Y-%m-%d")
         parts = [(f"{name} ", "siderod.value")]
@@ -655,86 +672,138 @@ class _Row:
     limit_text: str
     limit_style: str
     next_event: Event | None
-    sort_key: tuple
 
 
-def _target_rows(inputs: BoardInputs) -> list[_Row]:
-    sky = inputs.sky
-    if sky is None:
+def _target_rows(inputs: BoardInputs, count: int | None = None) -> list[_Row]:
+    """The first ``count`` rows of the target table (every row when None), in the order shown.
+
+    What needs attention next comes first: a due or overdue flip, then the soonest event; muted
+    targets last; ties by name. Everything per target is worked out on arrays; ``_Row`` records
+    (and ``Event`` records) are made only for the rows returned, so a frame of 100,000 targets
+    costs little more than one of 20.
+    """
+    state = _target_state(inputs)
+    if state is None:
         return []
+    return [_make_row(state, i) for i in _row_order(state, count).tolist()]
+
+
+class _TargetState:
+    """One frame's per-target arrays, each of shape (N,) in the sky's target order."""
+
+    __slots__ = ("inputs", "index", "now_unix", "ha_now", "up", "fixed", "muted", "urgent", "flips_apply",
+                 "next_row", "culm_row", "flip_row", "limit_row", "next_seconds", "rank")
+
+    def __init__(self, **values: Any) -> None:
+        for key, value in values.items():
+            setattr(self, key, value)
+
+
+def _target_state(inputs: BoardInputs) -> _TargetState | None:
+    sky = inputs.sky
+    if sky is None or not len(sky.names):
+        return None
     now_utc = inputs.now_utc
     now_unix = now_utc.timestamp()
     index = _event_index(inputs.events)
-    ha = _as_list(sky.ha_hours)
-    dec = _as_list(sky.dec_deg)
-    alt = _as_list(sky.alt_deg)
-    az = _as_list(sky.az_deg)
-    airmass = _as_list(sky.airmass)
-    rising = _as_list(sky.rising)
-    min_alt = _as_list(sky.min_alt_deg)
-    sun_sep = _as_list(sky.sun_separation_deg)
-    sun_up_enough = float(sky.sun_alt_deg) > SUN_CAUTION_SUN_ABOVE_DEG
-    muted_map = _muted_targets(inputs.snapshot, now_utc)
-    gem = _is_gem(inputs.config)
-    mount = inputs.config.mount
-    flip_hours, limit_hours = mount.flip_after_minutes / 60.0, mount.limit_after_minutes / 60.0
+    slots, fixed, rank, positions = index.for_targets(tuple(sky.names), tuple(sky.frames))
     elapsed_sidereal_hours = 0.0
     if inputs.sky_utc is not None:
         elapsed_sidereal_hours = (now_utc - inputs.sky_utc).total_seconds() / 3600.0 * SIDEREAL_PER_SOLAR
-    have_agenda = bool(index)
-    rows = []
-    for i, name in enumerate(sky.names):
-        ha_now = (ha[i] + elapsed_sidereal_hours + 12.0) % 24.0 - 12.0
-        up = alt[i] >= min_alt[i]
-        events = index.get(name)
-        next_event = _first_after(events, None, now_unix)
-        culm = _first_after(events, EventKind.CULMINATION, now_unix)
-        culm_seconds, culm_usable = math.inf, True
-        fixed = sky.frames[i] == "fixed-pointing"
-        if culm is not None:
-            culm_seconds = culm.time_utc.timestamp() - now_unix
-            culm_usable = culm.usable is not False
-        elif not fixed:
-            # Not in the agenda (still being worked out, or beyond a short window_hours): from the
-            # hour angle, as the sky turns (sidereal rate).
-            culm_seconds = ((-ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0
-        flip_text = limit_text = ""
-        flip_style = limit_style = "siderod.countdown"
-        urgent = False
-        # The flip states follow the hour angle, for targets the event engine gives flips for
-        # (or for all while the agenda is still being worked out).
-        # A target up now gets them too when the window is too short to hold its next flip.
-        flips_apply = gem and not fixed and (not have_agenda or up
-                                             or _has_kind(events, EventKind.TRACKING_LIMIT))
-        if flips_apply:
-            flip = _first_after(events, EventKind.FLIP_DUE, now_unix)
-            limit = _first_after(events, EventKind.TRACKING_LIMIT, now_unix)
-            flip_seconds = (flip.time_utc.timestamp() - now_unix if flip is not None
-                            else ((flip_hours - ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0)
-            limit_seconds = (limit.time_utc.timestamp() - now_unix if limit is not None
-                             else ((limit_hours - ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0)
-            flip_text = format_countdown(flip_seconds)
-            limit_text = format_countdown(limit_seconds)
-            if flip_hours <= ha_now < limit_hours and up:
-                flip_text, flip_style, urgent = "DUE", "siderod.flip.due", True
-            elif limit_hours <= ha_now < limit_hours + PAST_LIMIT_SHOWN_HOURS and up:
-                limit_text, limit_style, urgent = "PAST", "siderod.flip.due", True
-            if not up:
-                flip_style = limit_style = "siderod.dim"
-        muted = name in muted_map
-        next_seconds = next_event.time_utc.timestamp() - now_unix if next_event is not None else math.inf
-        rows.append(_Row(
-            name=name, ha_hours=ha_now, dec_deg=dec[i], alt_deg=alt[i], az_deg=az[i], airmass=airmass[i],
-            rising=bool(rising[i]), fixed=fixed, up=up, muted=muted,
-            near_sun=sun_up_enough and sun_sep[i] < SUN_CAUTION_SEPARATION_DEG,
-            culm_seconds=culm_seconds, culm_usable=culm_usable,
-            flip_text=flip_text, flip_style=flip_style, limit_text=limit_text, limit_style=limit_style,
-            next_event=next_event,
-            # What needs attention next: a due or overdue flip, then the soonest event; muted last.
-            sort_key=(muted, not urgent, next_seconds, name),
-        ))
-    rows.sort(key=lambda r: r.sort_key)
-    return rows
+    # numpy's float remainder takes the divisor's sign, as Python's does: the same hour angles.
+    ha_now = (np.asarray(sky.ha_hours, dtype=float) + elapsed_sidereal_hours + 12.0) % 24.0 - 12.0
+    up = np.asarray(sky.alt_deg, dtype=float) >= np.asarray(sky.min_alt_deg, dtype=float)
+    muted = np.zeros(fixed.size, dtype=bool)
+    for name in _muted_targets(inputs.snapshot, now_utc):
+        muted[positions.get(name, [])] = True
+    mount = inputs.config.mount
+    flip_hours, limit_hours = mount.flip_after_minutes / 60.0, mount.limit_after_minutes / 60.0
+    # The flip states follow the hour angle, for targets the event engine gives flips for (or for
+    # all while the agenda is still being worked out). A target up now gets them too when the
+    # window is too short to hold its next flip.
+    has_limit = index.has_kind(EventKind.TRACKING_LIMIT, slots)
+    flips_apply = (~fixed & _is_gem(inputs.config)) & (up | has_limit | (not index.has_target_events))
+    due = flips_apply & up & (flip_hours <= ha_now) & (ha_now < limit_hours)
+    past = (flips_apply & up & ~due & (limit_hours <= ha_now)
+            & (ha_now < limit_hours + PAST_LIMIT_SHOWN_HOURS))
+    next_row = index.next_rows(None, slots, now_unix)
+    return _TargetState(
+        inputs=inputs, index=index, now_unix=now_unix, ha_now=ha_now, up=up, fixed=fixed, muted=muted,
+        urgent=due | past, flips_apply=flips_apply, next_row=next_row,
+        culm_row=index.next_rows(EventKind.CULMINATION, slots, now_unix),
+        flip_row=index.next_rows(EventKind.FLIP_DUE, slots, now_unix),
+        limit_row=index.next_rows(EventKind.TRACKING_LIMIT, slots, now_unix),
+        next_seconds=np.where(next_row >= 0, index.time_unix[np.maximum(next_row, 0)] - now_unix, math.inf)
+        if len(index.table) else np.full(next_row.size, math.inf),
+        rank=rank,
+    )
+
+
+def _row_order(state: _TargetState, count: int | None) -> np.ndarray:
+    """Indices of the first ``count`` targets by (muted, not urgent, seconds to next event, name).
+
+    Only the targets that can be among the first ``count`` are sorted: those of the groups before
+    the one the count ends in, and of that group those no later than its count-th soonest.
+    """
+    group = state.muted.astype(np.int8) * 2 + (~state.urgent).astype(np.int8)
+    seconds, rank = state.next_seconds, state.rank
+    n = group.size
+    if count is not None and count <= 0:
+        return np.zeros(0, dtype=np.int64)
+    if count is not None and count < n:
+        ends = np.cumsum(np.bincount(group, minlength=4))
+        last = int(np.searchsorted(ends, count))  # the group the count ends in
+        need = count - (int(ends[last - 1]) if last else 0)
+        members = np.flatnonzero(group == last)
+        cut = np.partition(seconds[members], need - 1)[need - 1]
+        chosen = np.concatenate([np.flatnonzero(group < last), members[seconds[members] <= cut]])
+        return chosen[np.lexsort((rank[chosen], seconds[chosen], group[chosen]))][:count]
+    return np.lexsort((rank, seconds, group))
+
+
+def _make_row(state: _TargetState, i: int) -> _Row:
+    inputs, index, now_unix = state.inputs, state.index, state.now_unix
+    sky = inputs.sky
+    ha_now = float(state.ha_now[i])
+    up, fixed, muted = bool(state.up[i]), bool(state.fixed[i]), bool(state.muted[i])
+    culm_row = int(state.culm_row[i])
+    culm_seconds, culm_usable = math.inf, True
+    if culm_row >= 0:
+        culm_seconds = float(index.time_unix[culm_row]) - now_unix
+        culm_usable = int(index.table.usable[culm_row]) != 0
+    elif not fixed:
+        # Not in the agenda (still being worked out, or beyond a short window_hours): from the
+        # hour angle, as the sky turns (sidereal rate).
+        culm_seconds = ((-ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0
+    flip_text = limit_text = ""
+    flip_style = limit_style = "siderod.countdown"
+    if state.flips_apply[i]:
+        mount = inputs.config.mount
+        flip_hours, limit_hours = mount.flip_after_minutes / 60.0, mount.limit_after_minutes / 60.0
+        flip_row, limit_row = int(state.flip_row[i]), int(state.limit_row[i])
+        flip_seconds = (float(index.time_unix[flip_row]) - now_unix if flip_row >= 0
+                        else ((flip_hours - ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0)
+        limit_seconds = (float(index.time_unix[limit_row]) - now_unix if limit_row >= 0
+                         else ((limit_hours - ha_now) % 24.0) / SIDEREAL_PER_SOLAR * 3600.0)
+        flip_text = format_countdown(flip_seconds)
+        limit_text = format_countdown(limit_seconds)
+        if flip_hours <= ha_now < limit_hours and up:
+            flip_text, flip_style = "DUE", "siderod.flip.due"
+        elif limit_hours <= ha_now < limit_hours + PAST_LIMIT_SHOWN_HOURS and up:
+            limit_text, limit_style = "PAST", "siderod.flip.due"
+        if not up:
+            flip_style = limit_style = "siderod.dim"
+    next_row = int(state.next_row[i])
+    sun_up_enough = float(sky.sun_alt_deg) > SUN_CAUTION_SUN_ABOVE_DEG
+    return _Row(
+        name=sky.names[i], ha_hours=ha_now, dec_deg=float(sky.dec_deg[i]), alt_deg=float(sky.alt_deg[i]),
+        az_deg=float(sky.az_deg[i]), airmass=float(sky.airmass[i]), rising=bool(sky.rising[i]), fixed=fixed,
+        up=up, muted=muted,
+        near_sun=sun_up_enough and float(sky.sun_separation_deg[i]) < SUN_CAUTION_SEPARATION_DEG,
+        culm_seconds=culm_seconds, culm_usable=culm_usable,
+        flip_text=flip_text, flip_style=flip_style, limit_text=limit_text, limit_style=limit_style,
+        next_event=index.record(next_row) if next_row >= 0 else None,
+    )
 
 
 def _table_header(columns: tuple[ColumnSpec, ...], name_width: int, width: int) -> Text:
@@ -890,72 +959,120 @@ def _format_small_seconds(seconds: float | None) -> str:
     return f"{seconds:.1f} s"
 
 
-def _next_sky_event(events: tuple[Event, ...], now_utc: datetime) -> Event | None:
-    for event in events[_first_index_after(events, now_utc):]:
-        if event.target is None:
-            return event
-    return None
+_INDEX_CACHE: list[Any] = [None, None]  # (the events indexed last, their _EventIndex): frames share it
 
 
-def _first_index_after(events: tuple[Event, ...], now_utc: datetime) -> int:
-    lo, hi = 0, len(events)
-    while lo < hi:
-        mid = (lo + hi) // 2
-        if events[mid].time_utc < now_utc:
-            lo = mid + 1
+def _event_index(events: tuple[Event, ...] | EventTable) -> _EventIndex:
+    # Memoised on the identity of the events: the live view passes the same table for hours.
+    if _INDEX_CACHE[0] is not events or _INDEX_CACHE[1] is None:
+        _INDEX_CACHE[:] = [events, _EventIndex(events)]
+    return _INDEX_CACHE[1]
+
+
+class _EventIndex:
+    """An agenda's events as columns, grouped by target (and kind) for look-ups by ``np.searchsorted``.
+
+    Built once per agenda. For each group (every kind, or one kind) the events of each target are
+    contiguous and in time order, so one frame finds every target's next event with one comparison
+    over the group and one ``np.searchsorted``, whatever the number of targets.
+    """
+
+    _KINDS = (None, EventKind.CULMINATION, EventKind.FLIP_DUE, EventKind.TRACKING_LIMIT)
+
+    def __init__(self, events: tuple[Event, ...] | EventTable) -> None:
+        if isinstance(events, EventTable):
+            table, records = events, None
         else:
-            hi = mid
-    return lo
+            table, records = EventTable.from_records(events), list(events)
+        micros = table.time_microseconds()
+        if micros.size and np.any(micros[1:] < micros[:-1]):
+            order = np.argsort(micros, kind="stable")
+            table, micros = table.take(order), micros[order]
+            records = None if records is None else [records[i] for i in order.tolist()]
+        self.table = table
+        self._records = records
+        # Seconds as the records' aware datetimes give them (rounded to the microsecond).
+        self.time_unix = micros / 1e6
+        sky_rows = np.flatnonzero(table.target < 0)
+        self._sky_rows, self._sky_times = sky_rows, self.time_unix[sky_rows]
+        self.has_target_events = bool(sky_rows.size < len(table))
+        # A target is known by its name: a name listed twice in the table is one slot (its first).
+        self._slot_of: dict[str, int] = {}
+        first = np.array([self._slot_of.setdefault(name, i) for i, name in enumerate(table.names)],
+                         dtype=np.int64)
+        self._target = np.where(table.target >= 0, first[np.maximum(table.target, 0)], -1) if first.size \
+            else np.full(len(table), -1, dtype=np.int64)
+        self._groups = {kind: self._group(kind) for kind in self._KINDS}
+        self._targets_key: Any = None
+        self._targets: Any = None
 
+    def _group(self, kind: EventKind | None) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """(table rows by target then time, their times, first and end position of each target)."""
+        target = self._target
+        chosen = target >= 0 if kind is None else (target >= 0) & (self.table.kind == KIND_CODES[kind])
+        rows = np.flatnonzero(chosen)
+        rows = rows[np.argsort(target[rows], kind="stable")]  # stable: time order kept per target
+        by_target = target[rows]
+        slots = np.arange(len(self.table.names))
+        return (rows, self.time_unix[rows], np.searchsorted(by_target, slots, "left"),
+                np.searchsorted(by_target, slots, "right"))
 
-class _TargetEvents:
-    """One target's future-and-past events, split by kind, with times as floats for bisecting."""
+    def for_targets(self, names: tuple[str, ...], frames: tuple[str, ...]) -> tuple[Any, ...]:
+        """(each target's slot in the table or -1, fixed-pointing flags, rank by name, name -> positions).
 
-    __slots__ = ("by_kind",)
+        Kept for the last target list seen (the sky gives equal lists frame after frame).
+        """
+        if self._targets_key != (names, frames):
+            slots = np.array([self._slot_of.get(name, -1) for name in names], dtype=np.int64)
+            fixed = np.array([frame == "fixed-pointing" for frame in frames], dtype=bool)
+            rank = np.empty(len(names), dtype=np.int64)
+            rank[sorted(range(len(names)), key=names.__getitem__)] = np.arange(len(names))
+            positions: dict[str, list[int]] = {}
+            for i, name in enumerate(names):
+                positions.setdefault(name, []).append(i)
+            self._targets_key, self._targets = (names, frames), (slots, fixed, rank, positions)
+        return self._targets
 
-    def __init__(self) -> None:
-        self.by_kind: dict[EventKind | None, tuple[list[float], list[Event]]] = {}
+    def next_rows(self, kind: EventKind | None, slots: np.ndarray, now_unix: float) -> np.ndarray:
+        """Per target slot, the table row of its first event of ``kind`` (None: any) at or after
+        ``now_unix``, or -1."""
+        rows, times, first, end = self._groups[kind]
+        ahead = np.flatnonzero(times >= now_unix)  # positions in the group; in time order per target
+        if ahead.size == 0 or slots.size == 0:
+            return np.full(slots.size, -1, dtype=np.int64)
+        known = slots >= 0
+        safe = np.where(known, slots, 0)
+        where = np.searchsorted(ahead, first[safe])  # each target's first position at or after now
+        found = np.minimum(where, ahead.size - 1)
+        hit = known & (where < ahead.size) & (ahead[found] < end[safe])
+        return np.where(hit, rows[ahead[found]], -1)
 
-    def add(self, event: Event) -> None:
-        t = event.time_utc.timestamp()
-        for key in (None, event.kind):
-            times, items = self.by_kind.setdefault(key, ([], []))
-            times.append(t)
-            items.append(event)
+    def has_kind(self, kind: EventKind, slots: np.ndarray) -> np.ndarray:
+        """Per target slot: does the table hold any event of ``kind`` for it (past or future)?"""
+        _, _, first, end = self._groups[kind]
+        if first.size == 0:
+            return np.zeros(slots.size, dtype=bool)
+        safe = np.where(slots >= 0, slots, 0)
+        return (slots >= 0) & (end[safe] > first[safe])
 
+    def rows_ahead(self, name: str, now_unix: float, count: int) -> np.ndarray:
+        """Table rows of the first ``count`` events of target ``name`` at or after ``now_unix``."""
+        slot = self._slot_of.get(name)
+        if slot is None:
+            return np.zeros(0, dtype=np.int64)
+        rows, times, first, end = self._groups[None]
+        lo, hi = int(first[slot]), int(end[slot])
+        start = lo + int(np.searchsorted(times[lo:hi], now_unix, "left"))
+        return rows[start:min(hi, start + count)]
 
-_INDEX_CACHE: list[Any] = [None, {}]  # (the events tuple indexed last, its index): frames share it
+    def next_sky_event(self, now_unix: float) -> Event | None:
+        """The first Sun, Moon or twilight event at or after ``now_unix``."""
+        i = int(np.searchsorted(self._sky_times, now_unix, "left"))
+        return self.record(int(self._sky_rows[i])) if i < self._sky_rows.size else None
 
-
-def _event_index(events: tuple[Event, ...]) -> dict[str, _TargetEvents]:
-    # Memoised on the identity of the events tuple: the live view passes the same tuple for hours.
-    if _INDEX_CACHE[0] is events:
-        return _INDEX_CACHE[1]
-    index: dict[str, _TargetEvents] = {}
-    for event in sorted(events, key=lambda e: e.time_utc):
-        if event.target is not None:
-            index.setdefault(event.target, _TargetEvents()).add(event)
-    _INDEX_CACHE[0], _INDEX_CACHE[1] = events, index
-    return index
-
-
-def _first_after(events: _TargetEvents | None, kind: EventKind | None, now_unix: float) -> Event | None:
-    if events is None:
-        return None
-    found = events.by_kind.get(kind)
-    if found is None:
-        return None
-    times, items = found
-    i = bisect.bisect_left(times, now_unix)
-    return items[i] if i < len(items) else None
-
-
-def _has_kind(events: _TargetEvents | None, kind: EventKind) -> bool:
-    return events is not None and kind in events.by_kind
-
-
-def _as_list(values: Any) -> list:
-    return values.tolist() if hasattr(values, "tolist") else list(values)
+    def record(self, row: int) -> Event:
+        """Table row ``row`` as an ``Event`` (the caller's own record when it passed records)."""
+        return self._records[row] if self._records is not None else self.table.event(row)
 
 
 def _muted_targets(snapshot: ServiceSnapshot | None, now_utc: datetime) -> set[str]:
@@ -994,6 +1111,8 @@ def _join_cells(cells: list[tuple[str, str]]) -> list[tuple[str, str]]:
     return out
 
 
+_BEAM_ENTER, _BEAM_CENTRE, _BEAM_LEAVE = (KIND_CODES[EventKind.BEAM_ENTER], KIND_CODES[EventKind.BEAM_CENTRE],
+                                        KIND_CODES[EventKind.BEAM_LEAVE])
 _HEALTH_STYLES = {"synchronised": "siderod.ok", "unsynchronised": "siderod.warn"}
 _HALF_BLOCKS = {(True, True): "█", (True, False): "▀", (False, True): "▄", (False, False): " "}
 _DASH = ("...", "...", "###", "...", "...")

@@ -1,8 +1,8 @@
 """The live view: the one module that drives ``rich.live.Live``, ticking from the injected clock.
 
 Each tick redraws only the clock lines; the title and the body (table, alerts, warnings) are
-rendered to segments once per second and replayed in between. Only the rows that fit are ever
-rendered, so 500 targets cost no more to draw than 15.
+rendered to segments once per second and replayed in between. The board works on arrays and makes
+records only for the rows that fit, so 5,000 targets cost little more to draw than 15.
 """
 
 from __future__ import annotations
@@ -24,7 +24,7 @@ from rich.segment import Segment
 
 from siderod.common.clock import Clock
 from siderod.common.model import ClockHealth, Config, PlannedAlert, ServiceSnapshot
-from siderod.view.board import BoardInputs, compose_board, render_clock
+from siderod.view.board import BoardInputs, agenda_events, compose_board, render_clock
 
 __all__ = ["MAX_REFRESH_HZ", "BoardFeed", "run_live", "log_to_console", "read_keys"]
 
@@ -167,7 +167,7 @@ class BoardFeed:
             config=config,
             sky=compute_sky(config, now_utc.timestamp()),
             sky_utc=now_utc,
-            events=tuple(agenda.events) if agenda is not None else (),
+            events=agenda_events(agenda) if agenda is not None else (),
             snapshot=self._snapshot,
             source=self._source if self._snapshot is not None or self._get_snapshot is None else "",
             local_alerts=self._local_alerts if self._snapshot is None else (),
