@@ -273,3 +273,48 @@ def test_lower_culmination_is_plus_twelve_hours_everywhere_and_json_has_no_negat
     for event in agenda.events:
         for value in event_to_json(event).values():
             assert not (isinstance(value, float) and value == 0.0 and math.copysign(1.0, value) < 0)
+
+
+#: The Sun separation serves a 10-20 deg caution (``[alerts] sun_separation_min``, the planner's
+#: Sun caution): arcminutes are plenty. The agenda takes each star's direction once per piece and the
+#: Sun's from a polynomial through the low-precision solar formula (about 0.01 deg), so 0.05 deg
+#: leaves room for that formula and nothing else.
+SUN_SEPARATION_TOLERANCE_DEG = 0.05
+
+
+@pytest.mark.slow
+def test_sun_separation_of_every_target_event_matches_astropy():
+    # Reference: astropy 8 get_sun (its own VSOP87-based solar ephemeris, geocentric apparent) and
+    # SkyCoord.separation, at each event's instant, for random stars and the demo targets.
+    import warnings
+
+    from astropy import units as u
+    from astropy.coordinates import SkyCoord, get_sun
+    from astropy.time import Time
+    from astropy.utils import iers
+
+    iers.conf.auto_download = False
+    rng = np.random.default_rng(8)
+    ra = rng.uniform(0.0, 360.0, 40)
+    dec = np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, 40)))
+    # Some stars a few degrees from the Sun (RA ~ 262 deg, Dec ~ -23 deg in mid-December).
+    ra[:6] = 262.0 + rng.uniform(-8.0, 8.0, 6)
+    dec[:6] = -23.2 + rng.uniform(-8.0, 8.0, 6)
+    targets = tuple(_target(f"S{i}", float(a), float(d))
+                    for i, (a, d) in enumerate(zip(ra, dec, strict=True)))
+    agenda = compute_agenda(_config(targets=TARGETS[:4] + targets), DEMO_NIGHT, 30.0)
+    table = agenda.table
+    rows = np.flatnonzero(table.target >= 0)
+    assert rows.size > 300 and np.all(np.isfinite(table.sun_separation_deg[rows]))
+    names = [table.names[j] for j in table.target[rows]]
+    by_name = {t.name: t for t in TARGETS[:4] + targets}
+    when = Time(table.time_unix[rows], format="unix", scale="utc")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # astropy's IERS table may be older than the demo night
+        sun = get_sun(when)
+        stars = SkyCoord(ra=[by_name[n].ra_deg for n in names] * u.deg,
+                         dec=[by_name[n].dec_deg for n in names] * u.deg)
+        reference = sun.separation(stars).deg
+    diff = np.abs(table.sun_separation_deg[rows] - reference)
+    assert np.min(reference) < 10.0  # the close ones are there
+    assert np.max(diff) < SUN_SEPARATION_TOLERANCE_DEG

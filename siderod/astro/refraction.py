@@ -100,9 +100,10 @@ def refraction_from_true_deg(alt_true_deg, pressure_hpa=1010.0, temperature_c=10
         >>> abs(float(refraction_deg(h + r)) - r) < 1e-9
         True
     """
-    h_true, scale = np.broadcast_arrays(np.asarray(alt_true_deg, dtype=float),
-                                        _scale(pressure_hpa, temperature_c))
-    scales = np.unique(scale)
+    scale_in = _scale(pressure_hpa, temperature_c)
+    h_true, scale = np.broadcast_arrays(np.asarray(alt_true_deg, dtype=float), scale_in)
+    # One weather for every altitude is the usual call: no sort of the broadcast copy to find that.
+    scales = scale_in.reshape(1) if scale_in.ndim == 0 else np.unique(scale)
     if scales.size == 1:
         r = _refraction_from_true_table_deg(h_true, float(scales[0]))
     else:  # varied weather in one call: start from the standard table and iterate longer

@@ -31,6 +31,7 @@ from collections.abc import Callable, Collection, Mapping
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from functools import cached_property
+from operator import attrgetter
 
 import numpy as np
 
@@ -77,6 +78,12 @@ _SUN_KINDS = {
     (3, False): EventKind.ASTRONOMICAL_DUSK, (3, True): EventKind.ASTRONOMICAL_DAWN,
 }
 _ASTRONOMICAL_NIGHT_DEG = -18.0
+
+
+def _count_not_stars(frames: list[Frame]) -> int:
+    """How many of ``frames`` are not fixed places on the sky: fixed pointings and moving bodies
+    (:func:`siderod.plan.moving.is_moving`). ``list.count`` compares by identity first, in C."""
+    return frames.count(Frame.HADEC) + frames.count(Frame.BODY) + frames.count(Frame.ORBIT)
 
 
 @dataclass(frozen=True, eq=False)
@@ -179,12 +186,21 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
 
     # Fixed places and moving bodies go in separate chunks: a chunk shares one track, and only a
     # moving body's track carries parallax and needs the extra refinement steps.
-    moves = [is_moving(t) for t in chosen]
-    stars = [t for t, m in zip(chosen, moves, strict=True) if t.frame is not Frame.HADEC and not m]
-    moving = [t for t, m in zip(chosen, moves, strict=True) if m]
+    # One pass over the frames (not a call per target): 1e5 targets cost milliseconds here.
+    frames = list(map(attrgetter("frame"), chosen))
+    in_order = not _count_not_stars(frames)  # the common case: stars only, already in configured order
+    if in_order:
+        star_at, moving_at, fixed_at = list(range(len(chosen))), [], []
+    else:
+        star_at = [i for i, f in enumerate(frames)
+                   if f is not Frame.HADEC and f is not Frame.BODY and f is not Frame.ORBIT]
+        moving_at = [i for i, f in enumerate(frames) if f is Frame.BODY or f is Frame.ORBIT]
+        fixed_at = [i for i, f in enumerate(frames) if f is Frame.HADEC]
+    stars = chosen if in_order else [chosen[i] for i in star_at]
+    moving = [chosen[i] for i in moving_at]
     sky = stars + moving
-    fixed = [t for t in chosen if t.frame is Frame.HADEC]
-    sky_names = [t.name for t in sky]
+    fixed = [chosen[i] for i in fixed_at]
+    sky_names = list(map(attrgetter("name"), sky))
     parts: list[EventTable] = []
     night = _night_intervals(observer, start_unix, end_unix, dut1, parts, wanted, sky_names)
     if wanted & {EventKind.MOONRISE, EventKind.MOONSET}:
@@ -212,11 +228,10 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
         if usable and len(night):
             dark_parts.append((np.full(len(night), len(sky) + k), night[:, 0].copy(), night[:, 1].copy()))
 
-    # Report targets in the order they were configured (sky and fixed pointings interleaved).
-    summarised = {t.name for t in sky} | {t.name for t in fixed}
-    order_names = [t.name for t in chosen if t.name in summarised]
-    position = {name: i for i, name in enumerate(order_names)}
-    remap = np.array([position[t.name] for t in sky + fixed], dtype=np.int64)
+    # Report targets in the order they were configured (sky and fixed pointings interleaved):
+    # row j of the arrays above is target remap[j] of ``chosen``.
+    order_names = sky_names if in_order else list(map(attrgetter("name"), chosen))
+    remap = np.arange(len(chosen)) if in_order else np.array(star_at + moving_at + fixed_at, dtype=np.int64)
     codes = np.empty_like(class_codes)
     codes[remap] = class_codes
     if dark_parts:
@@ -238,7 +253,7 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
     table = EventTable.concat(parts, names).sorted()
     return Agenda(start_utc=_utc(start_unix), end_utc=_utc(end_unix), table=table,
                   target_names=tuple(order_names), class_codes=codes, dark_target=dt, dark_begin_unix=db,
-                  dark_end_unix=de, sky_codes=_sky_codes(config, chosen, summarised))
+                  dark_end_unix=de, sky_codes=_sky_codes(config, chosen, frames))
 
 
 #: The name beam events give the Sun as a source.
@@ -321,17 +336,23 @@ def _sun_track(observer, start_unix, end_unix, dut1):
     return ev.track_from_apparent(sample, xyz, distance, geocentric_site_rho(observer))
 
 
-def _sky_codes(config: Config, chosen, summarised) -> tuple[int, ...]:
+def _sky_codes(config: Config, chosen, frames) -> tuple[int, ...]:
     # The trade's classes for targets with a fixed place on the sky (catalogue declination, no
     # refraction), against the target's own lowest usable altitude; -1 for fixed pointings and
     # moving bodies, which have no fixed class.
-    listed = [t for t in chosen if t.name in summarised]
-    fixed_place = [t.frame is not Frame.HADEC and not is_moving(t) for t in listed]
-    dec = np.array([t.dec_deg if ok else 0.0 for t, ok in zip(listed, fixed_place, strict=True)])
-    usable = np.array([config.events.min_altitude_deg if t.min_altitude_deg is None else t.min_altitude_deg
-                       for t in listed])
-    codes = sky_class_codes(config.site.latitude_deg, dec, usable) if listed else np.zeros(0, dtype=np.int8)
-    return tuple(int(c) if ok else -1 for c, ok in zip(codes.tolist(), fixed_place, strict=True))
+    if not chosen:
+        return ()
+    if _count_not_stars(frames):
+        fixed_place = np.array([f is not Frame.HADEC and f is not Frame.BODY and f is not Frame.ORBIT
+                                for f in frames], dtype=bool)
+    else:
+        fixed_place = np.ones(len(frames), dtype=bool)
+    dec = np.array(list(map(attrgetter("dec_deg"), chosen)), dtype=float)
+    dec[~fixed_place] = 0.0
+    usable = np.array(list(map(attrgetter("min_altitude_deg"), chosen)), dtype=float)  # None: NaN
+    usable[np.isnan(usable)] = config.events.min_altitude_deg
+    codes = sky_class_codes(config.site.latitude_deg, dec, usable)
+    return tuple(np.where(fixed_place, codes, -1).tolist())
 
 
 def event_to_json(event: Event) -> dict:
@@ -542,14 +563,24 @@ class _EventMaker:
         self.track, self.last, self.lat, self.limit = track, last, lat, limit
         self.names, self.parts, self.offset = names, parts, offset
         self.sun = sun
+        self._unit_xyz = None  # (3, N) the targets' directions, made on first use
 
     def _state(self, idx, times):
-        alt_geo, az, ha = ev.target_altaz(self.track, self.last, self.lat, times, idx)
-        ra, dec = self.track.radec_at(times, idx)
-        ha = ev.observed_hour_angle_hours(ha, dec, self.lat)
+        radec = self.track.radec_at(times, idx)
+        alt_geo, az, ha = ev.target_altaz(self.track, self.last, self.lat, times, idx, radec=radec)
+        ha = ev.observed_hour_angle_hours(ha, radec[1], self.lat)
         alt = self.limit.to_observed_deg(alt_geo)
         floor = self.limit.observed_deg(az, idx)
-        self.sun_sep = self.sun.separation_deg(times, ra, dec) if self.sun is not None else None
+        self.sun_sep = None
+        if self.sun is not None:
+            if self.track.parallax_coeffs is None:
+                # A star's apparent place moves < 1" in a day: its direction at mid-piece will do.
+                if self._unit_xyz is None:
+                    self._unit_xyz = np.array(_unit(*self.track.radec_at(self.track.mid_unix)))
+                target_xyz = self._unit_xyz[:, idx]
+            else:  # a moving body (the Moon moves 13 deg a day): its place at the event
+                target_xyz = np.array(_unit(*radec))
+            self.sun_sep = self.sun.separation_deg(times, target_xyz)
         return alt, az, ha, floor
 
     def _sep(self, keep):
@@ -590,22 +621,41 @@ class _EventMaker:
 
 
 class _SunPath:
-    """The Sun's apparent direction across a piece of window, sampled hourly and interpolated (the
-    Sun moves 1 deg a day, so linear interpolation is good to a few arcseconds), for the distance
-    of each target event from the Sun."""
+    """The Sun's apparent direction across a piece of window, for each target event's distance from
+    the Sun (the Sun caution and ``[alerts] sun_separation_min``, which work in whole degrees).
+
+    Its unit vector is fitted, component by component, by the polynomial through its place at a
+    few Chebyshev nodes (3 plus one per day, as :func:`siderod.astro.events.build_track` does for
+    stars); the Sun moves about 1 deg a day along a nearly great circle, so the fit is good to far
+    better than an arcsecond and costs a few multiplications per event (the low-precision solar
+    formula behind it is good to about 0.01 deg; tests/test_agenda.py checks the whole against astropy).
+    """
 
     def __init__(self, start_unix, end_unix):
-        self.grid = np.arange(start_unix - 3600.0, end_unix + 7200.0, 3600.0)
-        ra, dec, _ = sun_apparent_radec(instants_from_unix(self.grid))
-        self.xyz = _unit(ra, dec)
+        lo, hi = float(start_unix) - 120.0, float(end_unix) + 120.0
+        n = 3 + int(math.ceil((hi - lo) / 86400.0)) - 1
+        nodes = np.cos((2 * np.arange(n) + 1) * np.pi / (2 * n))[::-1]
+        nodes = nodes / nodes[-1]  # the end nodes on the span's ends
+        self.mid_unix, self.half_seconds = 0.5 * (lo + hi), 0.5 * (hi - lo)
+        sample = self.mid_unix + self.half_seconds * nodes
+        ra, dec, _ = sun_apparent_radec(instants_from_unix(sample))
+        # (n, 3): polynomial coefficients of x, y, z, highest power first.
+        self.coeffs = np.linalg.solve(np.vander(nodes, n), np.array(_unit(ra, dec)).T)
 
-    def separation_deg(self, unix_seconds, ra_hours, dec_deg):
-        t = np.asarray(unix_seconds, dtype=float)
-        sun = [np.interp(t, self.grid, c) for c in self.xyz]
-        target = _unit(ra_hours, dec_deg)
-        dot = sum(a * b for a, b in zip(sun, target, strict=True))
-        norm = np.sqrt(sum(a * a for a in sun))
-        return np.degrees(np.arccos(np.clip(dot / norm, -1.0, 1.0)))
+    def separation_deg(self, unix_seconds, target_xyz):
+        """Degrees between the Sun's centre and unit vectors ``target_xyz`` (3, M) at ``unix_seconds``."""
+        tau = (np.asarray(unix_seconds, dtype=float) - self.mid_unix) * (1.0 / self.half_seconds)
+        dot = None
+        for axis in range(3):
+            c = self.coeffs[:, axis]
+            value = np.full(tau.shape, c[0])
+            for k in range(1, c.size):
+                value *= tau
+                value += c[k]
+            value *= target_xyz[axis]
+            dot = value if dot is None else dot + value
+        np.clip(dot, -1.0, 1.0, out=dot)
+        return np.degrees(np.arccos(dot, out=dot), out=dot)
 
 
 def _unit(ra_hours, dec_deg):

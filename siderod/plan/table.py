@@ -84,7 +84,10 @@ class EventTable:
         def col(value, dtype, absent):
             if value is None:
                 return np.full(n, absent, dtype=dtype)
-            return np.broadcast_to(np.asarray(value, dtype=dtype), (n,)).copy()
+            array = np.asarray(value, dtype=dtype)
+            if array.shape == (n,) and array is not value:
+                return array  # already a new array of its own (a conversion): no second copy
+            return np.broadcast_to(array, (n,)).copy()
 
         return cls(time_unix=t, kind=col(kind, np.int8, 0), target=col(target, np.int32, -1),
                    altitude_deg=col(altitude_deg, float, np.nan), azimuth_deg=col(azimuth_deg, float, np.nan),
@@ -156,7 +159,9 @@ class EventTable:
         # One sort of a combined key (time, then kind, in the low bits: POSIX microseconds times
         # 2**5 stay far inside int64 until the year 2300) instead of two.
         key = micros * _KIND_SPAN + self.kind.astype(np.int64)
-        order = np.argsort(key, kind="stable")
+        # numpy's default sort (vectorised quicksort) is ~6x its stable sort on 800,000 keys; equal
+        # keys, the only rows whose order it could leave open, are ordered by lexsort below.
+        order = np.argsort(key)
         sorted_key = key[order]
         if np.any(sorted_key[1:] == sorted_key[:-1]):
             # Ties in time and kind are rare; only then rank the names (a sort of every name).

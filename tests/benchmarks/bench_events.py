@@ -1,7 +1,7 @@
 """Benchmark the event engine; compare it with the approach a user would otherwise write.
 
 Run (one command, about a minute):
-    /work/venv/bin/python tests/benchmarks/bench_events.py [--quick]
+    python tests/benchmarks/bench_events.py [--quick] [--agenda-only] [--previous REV]
 
 Prints, for 1e3, 1e4, 1e5 and 1e6 random targets at the demo site (invented Corrie Hill
 Observatory, 56.2 N) over 24 h from 2026-12-14 12:00 UTC:
@@ -10,6 +10,10 @@ Observatory, 56.2 N) over 24 h from 2026-12-14 12:00 UTC:
      the profile, altitude-up/down at 30 deg, two hour-angle marks, flip-due and tracking-limit (kept
      while usable), plus the Sun's and Moon's events; median of 3 runs;
   C. peak traced memory (tracemalloc, a separate un-timed run) for B;
+  D. the agenda's engine part as `siderod agenda` runs it (compute_agenda on the demo configuration
+     with 1e5 CSV targets: every kind, each event's state and Sun separation, the sorted event
+     table), CPU seconds, median of 3, beside the same run of a previous revision of siderod
+     (``--previous REV``, exported with ``git archive``; default: the commit before the speed-up);
 and then, on a subset of targets, astropy AltAz on a 1-minute grid with bisection to 1 s (the
 baseline of perf-baselines.md section 3), its per-target cost, the speed ratio against A at 1e5,
 and the largest time difference between the two.
@@ -18,8 +22,12 @@ and the largest time difference between the two.
 from __future__ import annotations
 
 import argparse
+import os
+import pathlib
 import statistics
+import subprocess
 import sys
+import tempfile
 import time
 import tracemalloc
 
@@ -162,10 +170,65 @@ def astropy_baseline(ra, dec):
     return elapsed, col, which, 0.5 * (lo + hi)
 
 
+AGENDA_SCRIPT = """
+import os, statistics, sys, time
+from datetime import UTC, datetime
+from siderod.files.config import load_config
+from siderod.plan.agenda import compute_agenda
+start = datetime(2026, 12, 14, 12, tzinfo=UTC)
+config = load_config(sys.argv[1], os.environ, at_unix=start.timestamp())
+compute_agenda(config, start)  # warm-up: tables parsed and cached on first use
+times = []
+for _ in range(3):
+    t0 = time.process_time()
+    agenda = compute_agenda(config, start)
+    times.append(time.process_time() - t0)
+print(statistics.median(times), len(agenda.table))
+"""
+#: The revision before the agenda's engine part was cut to size (Sun separation per event by
+#: interpolation, stable sorts in every finder, a Python call per target).
+PREVIOUS_REVISION = "c28c9f7"
+
+
+def agenda_engine(root: pathlib.Path, targets: int, previous: str | None) -> None:
+    """Case D: compute_agenda CPU time here and, when ``previous`` is a revision, there."""
+    sys.path.insert(0, str(pathlib.Path(__file__).parent))
+    from bench_commands import make_catalogue
+
+    work = pathlib.Path(tempfile.mkdtemp(prefix="siderod-bench-events-"))
+    config = make_catalogue(work, targets)
+
+    def measure(tree):
+        env = dict(os.environ, PYTHONPATH=str(tree))
+        out = subprocess.run([sys.executable, "-c", AGENDA_SCRIPT, str(config)], env=env, cwd=tree,
+                             capture_output=True, text=True, check=True).stdout.split()
+        return float(out[0]), int(out[1])
+
+    seconds, events = measure(root)
+    line = f"D: compute_agenda, {targets:,} targets, {events:,} events: {seconds:.3f} s of CPU (median of 3)"
+    if previous:
+        old = work / "previous"
+        old.mkdir()
+        archive = subprocess.run(["git", "-C", str(root), "archive", previous, "siderod"], check=True,
+                                 capture_output=True).stdout
+        subprocess.run(["tar", "-x", "-C", str(old)], input=archive, check=True)
+        before, before_events = measure(old)
+        line += (f"; revision {previous}: {before:.3f} s ({before_events:,} events): "
+                 f"{before / seconds:.1f}x faster")
+    print(line, flush=True)
+
+
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="stop at 1e5 targets and use 100 for astropy")
+    parser.add_argument("--previous", default=PREVIOUS_REVISION,
+                        help="revision for case D's previous approach ('' to skip it)")
+    parser.add_argument("--agenda-only", action="store_true", help="run case D only")
     args = parser.parse_args()
+    root = pathlib.Path(__file__).resolve().parents[2]
+    agenda_engine(root, 100_000, args.previous or None)
+    if args.agenda_only:
+        return 0
     sizes = [1_000, 10_000, 100_000] + ([] if args.quick else [1_000_000])
     print(f"numpy {np.__version__}, python {sys.version.split()[0]}")
     print(f"{'targets':>9} | {'A: culm+rise+set':>17} | {'per target':>10} | {'B: every kind':>14} | "
