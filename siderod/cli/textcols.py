@@ -52,6 +52,8 @@ def constant(text: bytes | str, rows: int) -> np.ndarray:
 def digits_column(values, width: int) -> np.ndarray:
     """Non-negative integers, zero-padded to ``width`` digits (``7`` -> ``b"07"``); ``(N, width)``."""
     v = np.asarray(values, dtype=np.int64).reshape(-1)
+    if width <= _TABLE_DIGITS:  # one look-up per row in a table of every value (values < 10**width)
+        return _digit_table(width)[v]
     out = np.empty((v.size, width), dtype=np.uint8)
     col = width
     while col >= 2:  # two digits per step, from a 100-entry table
@@ -64,6 +66,47 @@ def digits_column(values, width: int) -> np.ndarray:
 
 
 _PAIRS = np.array([[_ZERO + i // 10, _ZERO + i % 10] for i in range(100)], dtype=np.uint8)
+#: Up to this many digits a column is one look-up in a table of every value (10**5 rows of 5 bytes).
+_TABLE_DIGITS = 5
+_DIGIT_TABLES: dict[int, np.ndarray] = {}
+_SIGNED_TABLES: dict[tuple[int, int, bool], np.ndarray] = {}
+
+
+def _digit_table(width: int) -> np.ndarray:
+    """Row k: k zero-padded to ``width`` digits, for every k < 10**width."""
+    table = _DIGIT_TABLES.get(width)
+    if table is None:
+        v = np.arange(10 ** width, dtype=np.int64)
+        table = np.empty((v.size, width), dtype=np.uint8)
+        for col in range(width - 1, -1, -1):
+            table[:, col] = _ZERO + v % 10
+            v //= 10
+        _DIGIT_TABLES[width] = table
+    return table
+
+
+def _signed_table(digits: int, pad: int, plus: bool) -> np.ndarray:
+    """Rows k and 10**digits + k: the integer part k right-aligned in ``digits + 1`` bytes after its
+    sign (``-`` in the second half, ``+`` or padding in the first), no leading zeros, padded left."""
+    key = (digits, pad, plus)
+    table = _SIGNED_TABLES.get(key)
+    if table is None:
+        size = 10 ** digits
+        v = np.arange(size, dtype=np.int64)
+        count = np.ones(size, dtype=np.int64)  # digits shown: at least one
+        for k in range(1, digits):
+            count += v >= 10 ** k
+        body = np.full((size, digits + 1), pad, dtype=np.uint8)
+        shown = np.arange(digits) >= (digits - count)[:, None]
+        body[:, 1:] = np.where(shown, _digit_table(digits)[v], np.uint8(pad))
+        negative = body.copy()
+        rows = np.arange(size)
+        negative[rows, digits - count] = _MINUS
+        if plus:
+            body[rows, digits - count] = _PLUS
+        table = np.concatenate([body, negative])
+        _SIGNED_TABLES[key] = table
+    return table
 
 
 def decimal_column(values, decimals: int, *, pad: int = NUL, plus: bool = False, null: bytes = b"null",
@@ -85,7 +128,11 @@ def decimal_column(values, decimals: int, *, pad: int = NUL, plus: bool = False,
     x = np.asarray(values, dtype=float).reshape(-1)
     n = x.size
     missing = np.isnan(x)
-    scaled = np.rint(np.where(missing, 0.0, x) * 10.0 ** decimals).astype(np.int64)
+    any_missing = bool(missing.any())
+    if any_missing and missing.all():  # a column that does not apply to any of these rows
+        width = max(2 + (1 + decimals if decimals else 0), len(null))  # as for a column of zeros
+        return constant(bytes([pad]) * (width - len(null)) + null, n)
+    scaled = np.rint((np.where(missing, 0.0, x) if any_missing else x) * 10.0 ** decimals).astype(np.int64)
     if wrap is not None:
         scaled[scaled >= round(wrap * 10 ** decimals)] = 0
     negative = scaled < 0
@@ -94,28 +141,39 @@ def decimal_column(values, decimals: int, *, pad: int = NUL, plus: bool = False,
     top = int(int_part.max()) if n else 0
     int_digits = len(str(top))
     width = max(1 + int_digits + (1 + decimals if decimals else 0), len(null))
-    out = np.full((n, width), pad, dtype=np.uint8)
     if n == 0:
-        return out
-    if decimals:
-        out[:, width - decimals:] = digits_column(mag % 10 ** decimals, decimals)
-        out[:, width - decimals - 1] = _DOT
+        return np.full((n, width), pad, dtype=np.uint8)
     stop = width - (1 + decimals if decimals else 0)  # just after the units digit
-    digits = digits_column(int_part, int_digits)
-    # How many integer digits each row has (at least one), to blank the leading zeros.
-    count = np.ones(n, dtype=np.int64)
-    for k in range(1, int_digits):
-        count += int_part >= 10 ** k
-    shown = np.arange(int_digits) >= (int_digits - count)[:, None]
-    out[:, stop - int_digits:stop] = np.where(shown, digits, np.uint8(pad))
-    rows = np.flatnonzero(negative)
-    out[rows, stop - 1 - count[rows]] = _MINUS
-    if plus:
-        rows = np.flatnonzero(~negative)
-        out[rows, stop - 1 - count[rows]] = _PLUS
-    if missing.any():
-        out[missing] = pad
-        out[missing, width - len(null):] = np.frombuffer(null, dtype=np.uint8)
+    if int_digits <= _TABLE_DIGITS - 1 and decimals <= _TABLE_DIGITS:
+        # The common case, three look-ups a row: sign and integer part, the point, the fraction.
+        index = int_part + negative * 10 ** int_digits
+        parts = [_signed_table(int_digits, pad, plus)[index]]
+        if stop - int_digits - 1 > 0:
+            parts.insert(0, np.full((n, stop - int_digits - 1), pad, dtype=np.uint8))
+        if decimals:
+            parts += [constant(b".", n), _digit_table(decimals)[mag - int_part * 10 ** decimals]]
+        out = np.concatenate(parts, axis=1) if len(parts) > 1 else parts[0]
+    else:
+        out = np.full((n, width), pad, dtype=np.uint8)
+        if decimals:
+            out[:, width - decimals:] = digits_column(mag % 10 ** decimals, decimals)
+            out[:, width - decimals - 1] = _DOT
+        digits = digits_column(int_part, int_digits)
+        # How many integer digits each row has (at least one), to blank the leading zeros.
+        count = np.ones(n, dtype=np.int64)
+        for k in range(1, int_digits):
+            count += int_part >= 10 ** k
+        shown = np.arange(int_digits) >= (int_digits - count)[:, None]
+        out[:, stop - int_digits:stop] = np.where(shown, digits, np.uint8(pad))
+        rows = np.flatnonzero(negative)
+        out[rows, stop - 1 - count[rows]] = _MINUS
+        if plus:
+            rows = np.flatnonzero(~negative)
+            out[rows, stop - 1 - count[rows]] = _PLUS
+    if any_missing:
+        null_row = np.full(width, pad, dtype=np.uint8)
+        null_row[width - len(null):] = np.frombuffer(null, dtype=np.uint8)
+        out = np.where(missing[:, None], null_row, out)
     return out
 
 
@@ -156,10 +214,9 @@ def pick(choice, columns: Sequence[np.ndarray], *, pad: int = NUL) -> np.ndarray
 def join_rows(columns: Sequence[np.ndarray], *, drop_nul: bool = True) -> bytes:
     """Lay the columns side by side and return the rows as one bytes object (NULs dropped)."""
     block = np.concatenate([np.asarray(c, dtype=np.uint8) for c in columns], axis=1)
-    flat = block.reshape(-1)
     if drop_nul:
-        flat = flat[flat != NUL]
-    return flat.tobytes()
+        return block.tobytes().replace(b"\0", b"")  # memchr-driven: about twice a boolean mask's speed
+    return block.tobytes()
 
 
 def civil_fields(unix_seconds) -> dict[str, np.ndarray]:

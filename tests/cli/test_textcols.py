@@ -50,3 +50,13 @@ def test_json_strings_match_json_dumps():
 
     texts = ["M31", 'quote " inside', "back\\slash", "é and ο Cet", 'x", "y', ""]
     assert tc.json_strings(texts) == [json.dumps(t).encode() for t in texts]
+
+
+def test_decimal_column_of_nothing_but_nan_is_as_wide_as_zeros():
+    # A block of rows where a column never applies keeps the width a column of zeros would have,
+    # with the null text right-aligned, as in a column where some rows have values.
+    for decimals, pad, null in ((3, tc.NUL, b"null"), (2, tc.SPACE, b""), (0, tc.SPACE, b"-")):
+        nan = tc.decimal_column(np.full(5, np.nan), decimals, pad=pad, null=null)
+        zero = tc.decimal_column(np.zeros(5), decimals, pad=pad, null=null)
+        assert nan.shape == zero.shape
+        assert all(bytes(row) == bytes([pad]) * (nan.shape[1] - len(null)) + null for row in nan)
