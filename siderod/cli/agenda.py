@@ -164,7 +164,7 @@ def write_json(agenda, config, out) -> None:
         part = table.take(slice(first, first + _JSON_BLOCK))
         n = len(part)
         c = tc.constant
-        write(tc.join_rows([
+        write(memoryview(tc.join_rows([
             c(b',\n    {"time_utc": "', n),
             tc.iso_column(part.time_microseconds()),
             c(b'", "target": ', n), names[part.target],
@@ -179,29 +179,76 @@ def write_json(agenda, config, out) -> None:
             c(b', "beam_source": ', n), names[part.beam_source],
             c(b', "beam_offset_deg": ', n), tc.decimal_column(part.beam_offset_deg, 3),
             c(b"}", n),
-        ])[0 if first else 1:])  # no comma before the first event
+        ]))[0 if first else 1:])  # no comma before the first event (a view: no copy)
     write(b"\n  ],\n")
-    classes = dict(zip(agenda.target_names, (_CLASSES[c] for c in agenda.class_codes.tolist()), strict=True))
-    sky = json.dumps(dict(agenda.sky_classes))
-    write(f'  "classification": {json.dumps(classes)},\n  "sky_class": {sky},\n'.encode())
-    write(b'  "dark_intervals": {')
-    # Dark intervals: one fixed-width "[begin, end]" per row, then sliced per target.
-    target = agenda.dark_target
+    # The per-target objects, as columns too: each target's quoted name once, for all three.
+    from siderod.plan.skyclass import SKY_CLASSES
+
+    count = len(agenda.target_names)
+    names = tc.text_table(tc.json_strings(agenda.target_names) or [b""])
+    sky_codes = np.asarray(agenda.sky_codes if agenda.sky_codes else [-1] * count, dtype=np.int64)
+    has_sky = sky_codes >= 0
+    classification = _json_members(names[:count], _json_texts(_CLASSES), agenda.class_codes)
+    sky = _json_members(names[:count][has_sky], _json_texts(SKY_CLASSES), sky_codes[has_sky])
+    write(b'  "classification": ' + classification + b',\n  "sky_class": ' + sky + b",\n")
+    write(b'  "dark_intervals": ' + _json_dark_intervals(agenda, names[:count]) + b"\n}\n")
+
+
+def _json_texts(words):
+    import json
+
+    from siderod.cli import textcols as tc
+
+    return tc.text_table([json.dumps(w).encode() for w in words])
+
+
+def _json_members(names, values, codes) -> bytes:
+    """``{"name": value, ...}`` as ``json.dumps`` writes it, from a text table of quoted names (one
+    row per member), a text table of JSON values and each member's row in it."""
+    import numpy as np
+
+    from siderod.cli import textcols as tc
+
+    n = names.shape[0]
+    if n == 0:
+        return b"{}"
+    last = np.zeros(n, dtype=np.int64)
+    last[-1] = 1
+    return b"{" + bytes(tc.join_rows([names, tc.constant(b": ", n), values[np.asarray(codes, dtype=np.int64)],
+                                      tc.text_column([b", ", b""], last)])) + b"}"
+
+
+def _json_dark_intervals(agenda, names) -> bytes:
+    """``{"name": [["begin", "end"], ...], ...}`` for every target (sorted by target, then time).
+
+    Rows of three shapes are laid out in output order - per target a head (``"name": [``), its
+    intervals and a tail (``]``) - in one byte matrix whose NUL padding is then dropped.
+    """
+    import numpy as np
+
+    from siderod.cli import textcols as tc
+
+    count = names.shape[0]
+    if count == 0:
+        return b"{}"
+    target = np.asarray(agenda.dark_target, dtype=np.int64)
     k = target.size
+    bounds = np.searchsorted(target, np.arange(count + 1))
+    more = np.zeros(k, dtype=np.int64)  # another interval of the same target follows
+    more[:-1] = target[1:] == target[:-1]
     begin = tc.iso_column(np.round(agenda.dark_begin_unix * 1e6).astype(np.int64), millis=False)
     end = tc.iso_column(np.round(agenda.dark_end_unix * 1e6).astype(np.int64), millis=False)
-    more = np.zeros(k, dtype=bool)
-    more[:-1] = target[1:] == target[:-1]
-    rows = tc.join_rows([tc.constant(b'["', k), begin, tc.constant(b'", "', k), end, tc.constant(b'"]', k),
-                         tc.text_column([b"", b", "], more.astype(np.int64))], drop_nul=False)
-    width = len(rows) // k if k else 0
-    bounds = np.searchsorted(target, np.arange(len(agenda.target_names) + 1)).tolist()
-    quoted = tc.json_strings(agenda.target_names)
-    pieces = []
-    for j, name in enumerate(quoted):
-        block = rows[bounds[j] * width:bounds[j + 1] * width].replace(b"\0", b"")
-        pieces.append(name + b": [" + block + b"]")
-    write(b", ".join(pieces) + b"}\n}\n")
+    intervals = np.concatenate([tc.constant(b'["', k), begin, tc.constant(b'", "', k), end,
+                                tc.constant(b'"]', k), tc.text_column([b"", b", "], more)], axis=1)
+    heads = np.concatenate([tc.text_column([b", ", b""], (np.arange(count) == 0).astype(np.int64)), names,
+                            tc.constant(b": [", count)], axis=1)
+    width = max(intervals.shape[1], heads.shape[1])
+    rows = np.zeros((2 * count + k, width), dtype=np.uint8)
+    at = np.arange(count)
+    rows[2 * at + bounds[:-1], :heads.shape[1]] = heads
+    rows[2 * target + 1 + np.arange(k), :intervals.shape[1]] = intervals
+    rows[2 * at + 1 + bounds[1:], 0] = ord("]")
+    return b"{" + bytes(tc.drop_nul_bytes([rows])) + b"}"
 
 
 _JSON_BLOCK = 65536  # events per block written: bounds the memory of the byte columns
@@ -221,7 +268,7 @@ def _byte_writer(out):
     if buffer is not None:
         out.flush()
         return buffer.write
-    return lambda data: out.write(data.decode())
+    return lambda data: out.write(bytes(data).decode())
 
 
 def _print_table(agenda, config) -> None:

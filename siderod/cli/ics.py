@@ -31,7 +31,7 @@ __all__ = ["LIBRARY_MAX_EVENTS", "calendar_for", "event_note", "event_texts", "w
 
 #: Up to this many events the calendar is built from library components (the reference writer).
 LIBRARY_MAX_EVENTS = 2000
-_BLOCK = 16384  # events per block of the streaming writer (bounds its memory)
+_BLOCK = 65536  # events per block of the streaming writer (bounds its memory: ~20 MB)
 # icalendar's content-line folding starts a new line before the octet that would make a line 75 long,
 # and a continuation line holds 74 octets after its leading space.
 _FOLD = 74
@@ -122,6 +122,10 @@ def write_ics(agenda, config, out, *, stamp_utc: datetime) -> None:
     sources = tc.text_table(escaped[:len(table.names)] + [b""])  # a beam event's source; -1: none
     uid_who, uid_len = tc.text_table(uids), np.array([len(b) for b in uids])
     kind_text, kind_len = tc.text_table([k.encode() for k in kinds]), np.array([len(k) for k in kinds])
+    # Only names can make a folded line non-ASCII (the library then folds it; the constant lines
+    # are the library's own already): flag them once instead of scanning every row's bytes.
+    wide_who = np.array([not (e.isascii() and u.isascii()) for e, u in zip(escaped, uids, strict=True)])
+    wide_source = np.append(wide_who[:len(table.names)], False)
 
     for first in range(0, len(table), _BLOCK):
         rows = slice(first, first + _BLOCK)
@@ -164,13 +168,16 @@ def write_ics(agenda, config, out, *, stamp_utc: datetime) -> None:
             columns += [np.asarray(p, dtype=np.uint8) for p, _ in lines[name]]
             columns.append(tc.constant(_CRLF, n))
             done = done + length + 2
+        slow = wide_who[who] | wide_source[part.beam_source]
+        if not slow.any():  # the usual case: every row folded from the columns, no block copy
+            out.write(_fold_rows(columns, done, _rows(spans, n)))
+            continue
         block = np.concatenate(columns, axis=1)
-        slow = np.any(block >= 0x80, axis=1) if (block >= 0x80).any() else np.zeros(n, dtype=bool)
         # Runs of rows: the column folding for ASCII rows, the library for the others.
         edges = np.flatnonzero(np.diff(slow.astype(np.int8))) + 1
         for a, b in zip([0, *edges.tolist()], [*edges.tolist(), n], strict=True):
             if not slow[a]:
-                out.write(_fold_rows(block[a:b], done[a:b], [(s[a:b], z[a:b]) for s, z in _rows(spans, n)]))
+                out.write(_fold_rows([block[a:b]], done[a:b], [(s[a:b], z[a:b]) for s, z in _rows(spans, n)]))
                 continue
             for i in range(a, b):
                 parts = []
@@ -235,6 +242,7 @@ _PLAIN_TEXT = re.compile(r"[A-Za-z0-9 _.:'()+/*#&!?=@<>\[\]{}|~%$-]*")
 def _note_columns(table, sources=None) -> np.ndarray:
     """Per event, ``\\; <note>`` (escaped) or nothing: the kind-specific value, as for the table.
 
+    Each kind of note is formatted for its own rows only (NUL-padded to a common width).
     ``sources``: the escaped target names as a text table (last row empty), when already made.
     """
     from siderod.common.model import EventKind
@@ -243,43 +251,64 @@ def _note_columns(table, sources=None) -> np.ndarray:
     n = len(table)
     c = tc.constant
     kind = table.kind
-    fixed = tc.text_table([b"", b"\\; usable", b"\\; below its limit"])
-    code = np.zeros(n, dtype=np.int64)
     culm = np.isin(kind, [KIND_CODES[EventKind.CULMINATION], KIND_CODES[EventKind.LOWER_CULMINATION]])
-    code[culm] = np.where(table.usable[culm] == 1, 1, 2)
     marks = np.isin(kind, [KIND_CODES[k] for k in (EventKind.HOUR_ANGLE, EventKind.FLIP_DUE,
                                                       EventKind.TRACKING_LIMIT)])
-    limit = kind == KIND_CODES[EventKind.TRACKING_LIMIT]
-    caution = tc.text_table([b"", b" - check the mount's own limits"])[limit.astype(np.int64)]
-    ha = np.concatenate([c(b"\\; HA ", n), tc.decimal_column(table.mark_hours, 2, plus=True), c(b" h", n),
-                         caution], axis=1)
     moon_codes = [KIND_CODES[EventKind.MOONRISE], KIND_CODES[EventKind.MOONSET]]
     moon = np.isin(kind, moon_codes) & ~np.isnan(table.moon_illuminated_fraction)
-    lit = np.concatenate([c(b"\\; ", n), tc.decimal_column(table.moon_illuminated_fraction * 100.0, 0),
-                          c(b"% lit", n)], axis=1)
     through = ~np.isnan(table.threshold_deg) & ~culm & ~marks & ~moon
-    thr = np.concatenate([c(b"\\; through ", n), tc.decimal_column(table.threshold_deg, 1), c(b" deg", n)],
-                         axis=1)
-    choice = np.where(culm, 0, np.where(marks, 1, np.where(moon, 2, np.where(through, 3, 0))))
-    # Beam events: the source and its declination offset from the beam's axis.
-    if sources is None:
-        sources = tc.text_table([_escape(name) for name in table.names] + [b""])
-    offset = np.nan_to_num(table.beam_offset_deg)
-    beam = np.concatenate([c(b"\\; ", n), sources[table.beam_source], c(b" ", n),
-                           tc.decimal_column(np.abs(offset), 2), c(b" deg ", n),
-                           tc.text_table([b"N", b"S"])[(offset < 0).astype(np.int64)], c(b" of the axis", n)],
-                          axis=1)
-    choice = np.where(table.beam_source >= 0, 4, choice)
-    return tc.pick(choice, [fixed[code], ha, lit, thr, beam])
+    beam = table.beam_source >= 0
+    notes = []  # (rows, their note column)
+
+    def rows_of(mask):
+        rows = np.flatnonzero(mask)
+        return (rows, table.take(rows)) if rows.size else (rows, None)
+
+    rows, sub = rows_of(culm & ~beam)
+    if sub is not None:
+        fixed = tc.text_table([b"\\; usable", b"\\; below its limit"])
+        notes.append((rows, fixed[(sub.usable != 1).astype(np.int64)]))
+    rows, sub = rows_of(marks & ~culm & ~beam)
+    if sub is not None:
+        m = rows.size
+        limit = sub.kind == KIND_CODES[EventKind.TRACKING_LIMIT]
+        caution = tc.text_table([b"", b" - check the mount's own limits"])[limit.astype(np.int64)]
+        notes.append((rows, np.concatenate([c(b"\\; HA ", m), tc.decimal_column(sub.mark_hours, 2, plus=True),
+                                            c(b" h", m), caution], axis=1)))
+    rows, sub = rows_of(moon & ~culm & ~marks & ~beam)
+    if sub is not None:
+        m = rows.size
+        notes.append((rows, np.concatenate([c(b"\\; ", m),
+                                            tc.decimal_column(sub.moon_illuminated_fraction * 100.0, 0),
+                                            c(b"% lit", m)], axis=1)))
+    rows, sub = rows_of(through & ~beam)
+    if sub is not None:
+        m = rows.size
+        notes.append((rows, np.concatenate([c(b"\\; through ", m), tc.decimal_column(sub.threshold_deg, 1),
+                                            c(b" deg", m)], axis=1)))
+    rows, sub = rows_of(beam)
+    if sub is not None:  # the source and its declination offset from the beam's axis
+        m = rows.size
+        if sources is None:
+            sources = tc.text_table([_escape(name) for name in table.names] + [b""])
+        offset = np.nan_to_num(sub.beam_offset_deg)
+        notes.append((rows, np.concatenate([c(b"\\; ", m), sources[sub.beam_source], c(b" ", m),
+                                            tc.decimal_column(np.abs(offset), 2), c(b" deg ", m),
+                                            tc.text_table([b"N", b"S"])[(offset < 0).astype(np.int64)],
+                                            c(b" of the axis", m)], axis=1)))
+    out = np.zeros((n, max((col.shape[1] for _, col in notes), default=0)), dtype=np.uint8)
+    for rows, col in notes:
+        out[rows, :col.shape[1]] = col
+    return out
 
 
 def _rows(spans, n):
     return [(np.broadcast_to(start, (n,)), np.broadcast_to(length, (n,))) for start, length in spans]
 
 
-def _fold_rows(block: np.ndarray, row_bytes, spans) -> bytes:
-    """The rows of ``block`` (NUL-padded, ASCII) as bytes, each content line folded as icalendar's
-    ``Contentline.to_ical`` folds it.
+def _fold_rows(columns: list[np.ndarray], row_bytes, spans) -> bytes:
+    """The rows of the columns laid side by side (NUL-padded, ASCII) as bytes, each content line
+    folded as icalendar's ``Contentline.to_ical`` folds it.
 
     The library cuts a line before the octet that would make it 75 long, and each continuation
     holds 74 octets after its space; a backslash or caret that would end a piece moves to the next
@@ -287,7 +316,8 @@ def _fold_rows(block: np.ndarray, row_bytes, spans) -> bytes:
     gives each foldable line's start in its row and length, so the cuts are found for all rows at
     once in the row's bytes laid end to end.
     """
-    flat = block[block != 0]
+    data = tc.drop_nul_bytes(columns)
+    flat = np.frombuffer(data, dtype=np.uint8)
     row_start = np.concatenate([[0], np.cumsum(row_bytes)[:-1]])
     cuts = []
     for line_start, length in spans:
@@ -304,7 +334,6 @@ def _fold_rows(block: np.ndarray, row_bytes, spans) -> bytes:
             cuts.append(cut)
             start = cut
     if not cuts:
-        return flat.tobytes()
-    at = np.concatenate(cuts)
-    sep = np.frombuffer(b"\r\n ", dtype=np.uint8)
-    return np.insert(flat, np.repeat(at, 3), np.tile(sep, at.size)).tobytes()
+        return data
+    bounds = [0, *np.sort(np.concatenate(cuts)).tolist(), len(data)]
+    return b"\r\n ".join([data[a:b] for a, b in zip(bounds[:-1], bounds[1:], strict=True)])

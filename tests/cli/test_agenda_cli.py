@@ -89,7 +89,8 @@ def test_streamed_json_events_equal_the_record_form(capsys):
     from siderod.plan.agenda import compute_agenda, event_to_json
 
     assert main(["agenda", "--from", DEMO_FROM, "--hours", "30", "--json"]) == 0
-    data = json.loads(capsys.readouterr().out)
+    text = capsys.readouterr().out
+    data = json.loads(text)
     start_utc = datetime(2026, 12, 14, 12, tzinfo=UTC)
     config = load_config(None, {}, at_unix=start_utc.timestamp())  # DUT1 for the night, as the verb does
     agenda = compute_agenda(config, start_utc, 30)
@@ -103,8 +104,14 @@ def test_streamed_json_events_equal_the_record_form(capsys):
             else:
                 assert got[key] == value, key
     assert data["classification"] == agenda.classification
-    assert data["dark_intervals"] == {n: [[a.strftime("%Y-%m-%dT%H:%M:%SZ"), b.strftime("%Y-%m-%dT%H:%M:%SZ")]
-                                          for a, b in spans] for n, spans in agenda.dark_intervals.items()}
+    assert data["sky_class"] == dict(agenda.sky_classes)
+    dark = {n: [[a.strftime("%Y-%m-%dT%H:%M:%SZ"), b.strftime("%Y-%m-%dT%H:%M:%SZ")] for a, b in spans]
+            for n, spans in agenda.dark_intervals.items()}
+    assert data["dark_intervals"] == dark
+    # The per-target objects are written as columns, text for text as json.dumps writes them.
+    assert f'"classification": {json.dumps(dict(agenda.classification))},' in text
+    assert f'"sky_class": {json.dumps(dict(agenda.sky_classes))},' in text
+    assert f'"dark_intervals": {json.dumps(dark)}' in text
 
 
 # The writer rounds the scaled value with np.rint; Python's round() can differ by one unit in the
