@@ -226,10 +226,17 @@ class BoardFeed:
             # Cover the refresh interval too, so that a full window ahead is known at every frame
             # (a target culminating 23 h from now still shows its flip countdown).
             hours = config.events.window_hours + self.AGENDA_REFRESH_HOURS
-            agenda = await self._run_blocking(compute_agenda, config, start_utc, hours)
+
+            def work() -> tuple[Any, tuple[PlannedAlert, ...]]:
+                # The plan too, off the loop: 5,000 targets take most of a second to plan, which
+                # would stop the clock.
+                agenda = compute_agenda(config, start_utc, hours)
+                return agenda, tuple(plan_alerts(agenda, config, muted={}, now_utc=start_utc))
+
+            agenda, local_alerts = await self._run_blocking(work)
             if config is self._config:
                 self._agenda, self._agenda_start_utc = agenda, start_utc
-                self._local_alerts = plan_alerts(agenda, config, muted={}, now_utc=start_utc)
+                self._local_alerts = local_alerts
                 self._agenda_error = ""
         except Exception as exc:  # shown on the board and logged; the clock keeps running
             _log.exception("computing the agenda failed")
