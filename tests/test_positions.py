@@ -100,6 +100,48 @@ def test_subset_of_targets_and_empty_list(config):
     assert empty.names == () and empty.alt_deg.shape == (0,)
 
 
+@pytest.mark.parametrize("ecliptic_of_date", [True, False], ids=["ecliptic-of-date", "fixed-places-only"])
+def test_target_columns_kept_between_calls_never_go_stale(config, ecliptic_of_date):
+    # compute_sky keeps what it reads from the target records for the last targets tuple it saw (the
+    # live board asks every second). A later instant, another [events] min_altitude and another
+    # tuple of equal targets must give exactly what a first call gives.
+    if not ecliptic_of_date:
+        targets = tuple(t for t in config.targets if t.frame is not Frame.ECLIPTIC_OF_DATE)
+        config = replace(config, targets=targets)
+    assert any(t.frame is Frame.ECLIPTIC_OF_DATE for t in config.targets) == ecliptic_of_date
+    raised = replace(config, events=replace(config.events, min_altitude_deg=25.0))
+    for later in (0.0, 3600.0, 6.5 * 3600.0):
+        for cfg in (config, raised):
+            kept = compute_sky(cfg, AT_UNIX + later)  # the configuration's own tuple: kept columns
+            fresh = compute_sky(cfg, AT_UNIX + later, targets=list(cfg.targets))  # a new tuple
+            assert kept.names == fresh.names and kept.frames == fresh.frames
+            for name in ("ra_hours", "dec_deg", "ha_hours", "alt_deg", "az_deg", "airmass", "rising",
+                         "min_alt_deg", "sun_separation_deg", "magnitude", "distance_au",
+                         "elements_epoch_jd_tt"):
+                np.testing.assert_array_equal(getattr(kept, name), getattr(fresh, name), err_msg=name)
+    assert np.any(compute_sky(raised, AT_UNIX).min_alt_deg != compute_sky(config, AT_UNIX).min_alt_deg)
+    # Another list of as many targets is read afresh, not taken for the last one.
+    backwards = replace(config, targets=tuple(reversed(config.targets)))
+    sky, sky_backwards = compute_sky(config, AT_UNIX), compute_sky(backwards, AT_UNIX)
+    assert sky_backwards.names == sky.names[::-1]
+    np.testing.assert_array_equal(sky_backwards.alt_deg, sky.alt_deg[::-1])
+
+
+#: The mean equinox of date lies at RA 0 of the mean equator of date by definition; its apparent RA
+#: differs by the equation of the equinoxes (about 1 s of time) and annual aberration (about 1.4 s):
+#: 10 s of time is ample, and far below what the wrong equinox would give (50" of RA per year).
+EQUINOX_OF_DATE_RA_TOL_HOURS = 10.0 / 3600.0
+
+
+def test_ecliptic_of_date_places_follow_the_instant(config):
+    (target,) = [t for t in config.targets if t.name == "Equinox of date"]
+    config = replace(config, targets=(config.targets[0], target))  # one tuple: its columns are kept
+    for years in (0.0, 30.0, 0.0):
+        sky = compute_sky(config, AT_UNIX + years * 365.25 * 86400.0)
+        ra = sky.ra_hours[sky.names.index(target.name)]
+        assert abs((ra + 12.0) % 24.0 - 12.0) < EQUINOX_OF_DATE_RA_TOL_HOURS, years
+
+
 def test_rising_follows_hour_angle(config):
     sky = compute_sky(config, AT_UNIX)
     sky_targets = np.array([f != "fixed-pointing" for f in sky.frames])

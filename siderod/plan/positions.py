@@ -110,6 +110,7 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
         A :class:`SkyState`.
     """
     targets = tuple(config.targets if targets is None else targets)
+    columns = _target_columns(targets)
     site = config.site
     observer = observer_for(config)
     instants = instants_from_unix(float(unix_seconds), dut1_seconds=config.time.dut1_seconds)
@@ -122,12 +123,9 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
     rising = np.zeros(n, dtype=bool)
     last = float(last_hours(instants, site.longitude_deg))
 
-    fixed = np.array([t.frame is Frame.HADEC for t in targets], dtype=bool)
-    moving = np.array([t.frame in (Frame.BODY, Frame.ORBIT) for t in targets], dtype=bool)
-    sky_index = np.flatnonzero(~fixed & ~moving)
+    sky_index, moving_index, fixed_index = columns.sky_index, columns.moving_index, columns.fixed_index
     magnitude = np.full(n, np.nan)
     distance_au = np.full(n, np.nan)
-    moving_index = np.flatnonzero(moving)
     if moving_index.size:
         # Imported only when a target moves, so star-only runs stay as quick to start as before.
         from siderod.astro.ephemeris import observe_apparent
@@ -145,17 +143,17 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
         distance_au[moving_index] = places.distance_au[0]
     if sky_index.size:
         jd_tt = float(instants.tt_whole) + float(instants.tt_frac)
-        stars = target_stars([targets[i] for i in sky_index], jd_tt)
+        stars = columns.stars
+        if stars is None:  # ecliptic-of-date places move with the equinox: made for this instant
+            stars = target_stars([targets[i] for i in sky_index], jd_tt)
         seen = observe(stars, instants, observer)
         ra[sky_index], dec[sky_index] = seen.ra_hours, seen.dec_deg
         ha[sky_index], alt[sky_index], az[sky_index] = seen.ha_hours, seen.alt_deg, seen.az_deg
         rising[sky_index] = np.asarray(seen.ha_hours) < 0.0
-    fixed_index = np.flatnonzero(fixed)
     if fixed_index.size:
         # A fixed hour-angle pointing is already topocentric and of date: only the horizon
         # transform and refraction apply.
-        ha_fixed = np.array([targets[i].ha_hours for i in fixed_index], dtype=float)
-        dec_fixed = np.array([targets[i].dec_deg for i in fixed_index], dtype=float)
+        ha_fixed, dec_fixed = columns.ha_fixed_hours, columns.dec_fixed_deg
         alt_true, az_fixed = hadec_to_altaz(ha_fixed, dec_fixed, site.latitude_deg)
         if observer.refraction:
             alt_true = alt_true + refraction_from_true_deg(alt_true, observer.effective_pressure_hpa,
@@ -169,8 +167,8 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
     moon = observe_moon(instants, observer)
     sun_geometric = float(sun.alt_geometric_deg)
     return SkyState(
-        names=tuple(t.name for t in targets),
-        frames=tuple(t.frame.value for t in targets),
+        names=columns.names,
+        frames=columns.frames,
         ra_hours=ra,
         dec_deg=dec,
         ha_hours=ha,
@@ -178,7 +176,10 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
         az_deg=az,
         airmass=np.asarray(airmass(alt), dtype=float).reshape(n),
         rising=rising,
-        min_alt_deg=np.asarray(altitude_limit(config, targets).observed_deg(az), dtype=float).reshape(n),
+        min_alt_deg=np.asarray(_limit_from_floor(config, np.where(np.isnan(columns.min_altitude_deg),
+                                                                  config.events.min_altitude_deg,
+                                                                  columns.min_altitude_deg))
+                               .observed_deg(az), dtype=float).reshape(n),
         sun_separation_deg=np.asarray(sun_separation_deg(ra, dec, instants), dtype=float).reshape(n),
         unix_seconds=float(unix_seconds),
         jd_utc=float(instants.utc_whole) + float(instants.utc_frac),
@@ -193,9 +194,60 @@ def compute_sky(config: Config, unix_seconds: float, *, targets: Sequence[Target
         twilight=twilight_name(sun_geometric),
         magnitude=magnitude,
         distance_au=distance_au,
-        elements_epoch_jd_tt=np.array(
-            [t.orbit.epoch_jd_tt if t.orbit is not None else np.nan for t in targets], dtype=float),
+        elements_epoch_jd_tt=columns.elements_epoch_jd_tt.copy(),
     )
+
+
+@dataclass(frozen=True, eq=False)
+class _TargetColumns:
+    """What :func:`compute_sky` reads from the target records, as arrays, once per target list."""
+
+    names: tuple[str, ...]
+    frames: tuple[str, ...]
+    sky_index: np.ndarray  # catalogue places
+    moving_index: np.ndarray  # planets, the Moon, orbital elements
+    fixed_index: np.ndarray  # fixed hour-angle pointings
+    stars: Stars | None  # of the catalogue places; None when one is ecliptic-of-date (made per instant)
+    ha_fixed_hours: np.ndarray
+    dec_fixed_deg: np.ndarray
+    min_altitude_deg: np.ndarray  # each target's own, NaN where the [events] one applies
+    elements_epoch_jd_tt: np.ndarray
+
+
+_COLUMNS_MEMO: tuple[tuple[Target, ...] | None, _TargetColumns | None] = (None, None)
+
+
+def _target_columns(targets: tuple[Target, ...]) -> _TargetColumns:
+    # Memoised on the identity of the targets tuple (the configuration's own, unchanged between
+    # reloads), so that the live board's positions each second cost no loop over 5,000 records.
+    # One tuple assignment publishes it, so threads computing positions at once never see half.
+    global _COLUMNS_MEMO  # noqa: PLW0603 -- a one-entry memo
+    memo_targets, memo = _COLUMNS_MEMO
+    if memo_targets is targets and memo is not None:
+        return memo
+    frames = [t.frame for t in targets]
+    fixed = np.array([f is Frame.HADEC for f in frames], dtype=bool)
+    moving = np.array([f in (Frame.BODY, Frame.ORBIT) for f in frames], dtype=bool)
+    sky_index = np.flatnonzero(~fixed & ~moving)
+    fixed_index = np.flatnonzero(fixed)
+    stars = None
+    if sky_index.size and not any(frames[i] is Frame.ECLIPTIC_OF_DATE for i in sky_index.tolist()):
+        stars = target_stars([targets[i] for i in sky_index], 0.0)  # jd_tt unused without ecliptic places
+    columns = _TargetColumns(
+        names=tuple(t.name for t in targets),
+        frames=tuple(f.value for f in frames),
+        sky_index=sky_index,
+        moving_index=np.flatnonzero(moving),
+        fixed_index=fixed_index,
+        stars=stars,
+        ha_fixed_hours=np.array([targets[i].ha_hours for i in fixed_index], dtype=float),
+        dec_fixed_deg=np.array([targets[i].dec_deg for i in fixed_index], dtype=float),
+        min_altitude_deg=_floats(targets, "min_altitude_deg"),  # None (the [events] one) reads as NaN
+        elements_epoch_jd_tt=np.array([t.orbit.epoch_jd_tt if t.orbit is not None else np.nan
+                                       for t in targets], dtype=float),
+    )
+    _COLUMNS_MEMO = (targets, columns)
+    return columns
 
 
 def observer_for(config: Config) -> Observer:
@@ -215,6 +267,10 @@ def altitude_limit(config: Config, targets: Sequence[Target]) -> AltitudeLimit:
     """
     floor = _floats(targets, "min_altitude_deg")  # None (the [events] one) reads as NaN
     floor[np.isnan(floor)] = config.events.min_altitude_deg
+    return _limit_from_floor(config, floor)
+
+
+def _limit_from_floor(config: Config, floor: np.ndarray) -> AltitudeLimit:
     profile = np.array(config.site.horizon, dtype=float).reshape(-1, 2)
     observer = observer_for(config)
     return AltitudeLimit(min_alt_deg=floor, profile_az_deg=profile[:, 0], profile_alt_deg=profile[:, 1],
