@@ -5,10 +5,12 @@ Inputs are random: targets with and without events, events exactly now, ties in 
 30 s grid) so that names decide the order, targets below their limit, fixed pointings, moving
 bodies, targets near the Sun, muted ones (for ever, until later, until a moment already past),
 names the agenda does not know, German equatorial mounts and others, and a sky a few seconds old.
+The demo night, with the engine's own agenda and positions, is checked the same way.
 """
 
 from __future__ import annotations
 
+from dataclasses import replace
 from datetime import UTC, datetime, timedelta
 from types import SimpleNamespace
 
@@ -170,3 +172,34 @@ def test_a_huge_catalogue_makes_records_only_for_the_rows_shown():
     rows = board._target_rows(BoardInputs(NOW_UTC, config, sky, NOW_UTC, counting), 15)
     assert [r.name for r in rows] == [f"T{i:05d}" for i in range(n - 1, n - 16, -1)]
     assert len(calls) == 15
+
+
+@pytest.mark.slow
+def test_the_demo_night_gives_the_reference_rows_all_night():
+    # The real thing: the demo configuration (stars, the galactic and ecliptic frames, planets, the
+    # Moon, a comet, fixed pointings with beams, a German equatorial mount), its agenda and positions
+    # from the engine, through the night, with one target muted.
+    from siderod.files.config import load_config
+    from siderod.plan.agenda import compute_agenda
+    from siderod.plan.positions import compute_sky
+    from siderod.view.board import DEMO_INSTANT_UTC, compose_board
+
+    start = DEMO_INSTANT_UTC - timedelta(hours=6)
+    config = load_config(None, env={}, at_unix=start.timestamp())
+    assert config.mount.kind is MountKind.GERMAN_EQUATORIAL
+    agenda = compute_agenda(config, start, 14.0)
+    muted = {config.targets[1].name: None}
+    snapshot = ServiceSnapshot(taken_utc=start, started_utc=start, config_path="demo.toml", site=config.site,
+                               dut1_seconds=0.0, dut1_source="config", clock_health=None, muted=muted)
+    reference = event_index(agenda.events)
+    for minutes in range(0, 12 * 60, 47):
+        sky_utc = start + timedelta(minutes=minutes)
+        now = sky_utc + timedelta(seconds=0.5)  # the sky of the last whole second, carried forward
+        sky = compute_sky(config, sky_utc.timestamp())
+        as_records = BoardInputs(now, config, sky, sky_utc, agenda.events, snapshot=snapshot)
+        as_table = replace(as_records, events=agenda.table)
+        expected = shown(reference_target_rows(as_records, reference))
+        assert shown(board._target_rows(as_table)) == expected
+        assert shown(board._target_rows(as_table, 7)) == expected[:7]
+        lines = [line.plain for line in compose_board(as_table, 120, 40).lines()]
+        assert lines == [line.plain for line in compose_board(as_records, 120, 40).lines()]
