@@ -132,3 +132,17 @@ def test_a_limit_with_no_alerts_still_ends_the_flip_repeats():
     config = replace(config, alerts=replace(config.alerts, lead_minutes={EventKind.FLIP_DUE: (0.0,)}))
     repeats = plan_repeats(_agenda(), config, muted={}, now_utc=NOW)
     assert _minutes(a.due_utc for a in repeats) == [2, 4, 6, 8, 10, 12, 14]
+
+
+def test_repeats_after_the_end_of_the_stretch_are_left_to_a_later_plan():
+    # The service plans repeats only up to the end of its stretch (the next re-plan and a margin):
+    # the same repeats, with the same keys and numbers, as the whole series, cut at until_utc.
+    whole = plan_repeats(_agenda(), _config(repeat_count=3), muted={}, now_utc=NOW)
+    cut_utc = FLIP_UTC + timedelta(minutes=5)
+    stretch = plan_repeats(_agenda(), _config(repeat_count=3), muted={}, now_utc=NOW, until_utc=cut_utc)
+    assert stretch == tuple(a for a in whole if a.due_utc <= cut_utc)
+    assert _minutes(a.due_utc for a in stretch) == [-8, -6, -4, -2, 2, 4]
+    later = plan_repeats(_agenda(), _config(repeat_count=3), muted={}, now_utc=cut_utc,
+                         until_utc=LIMIT_UTC + timedelta(hours=1))
+    grace = timedelta(minutes=_config().alerts.grace_minutes)
+    assert later == tuple(a for a in whole if a.due_utc >= cut_utc - grace)  # numbered as in the series

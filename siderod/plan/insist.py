@@ -14,9 +14,25 @@ tracking-limit alerts, and alerts computed from a linked mount's own pointing) r
 - An acknowledged event gets no repeats at all (its configured alerts still come, once each).
 
 Each repeat is an alert of its own with its own key (the event's key with the repeat's lead,
-negative once past the event), so the exactly-once ledger treats it like any other alert: a
-restart neither sends a repeat twice nor forgets one that is owed. Acknowledgements are kept by
-*event id*, the key without its lead, so that one acknowledgement silences every repeat.
+negative once past the event) and its number in the series; both follow from the event and the
+configured alerts alone, so any plan that makes a repeat makes the same one. Acknowledgements are
+kept by *event id*, the key without its lead, so that one acknowledgement silences every repeat.
+
+How the service plans and gives them (``plan_repeats(until_utc=...)`` and the service's
+``repeat_stretch_minutes``):
+
+- Repeats are planned one *stretch* at a time: at each re-plan, those due up to the end of the
+  stretch (twice the re-plan interval, at least 3 h and two repeat periods); the next re-plan
+  plans the next stretch. A series longer than a stretch goes on unbroken across re-plans.
+- A repeat is a *reminder*, not a debt. Within its grace it is given exactly once, like any
+  alert: one that fell due while the service was stopped or suspended is given late (marked) at
+  the restart, and a restart never gives one twice (it is written to the ledger when claimed).
+  Past its grace it is dropped: not given, not counted or summarised as missed, because the
+  next repeat of the same event reminds again. An unacknowledged event still before its next
+  stage (or its last counted repeat) therefore *resumes* repeating after a restart; it does not
+  replay the repeats it missed beyond the grace.
+- Configured alerts (one per lead time) are unchanged: owed exactly once over the whole horizon,
+  given late within their grace and counted and summarised as missed beyond it.
 
 Pure: nothing here reads the clock or does I/O.
 """

@@ -30,6 +30,7 @@ __all__ = [
     "alert_key",
     "parse_alert_key",
     "format_alert",
+    "format_title",
     "format_missed_summary",
     "DEFAULT_URGENCY",
     "SKY_KINDS",
@@ -156,6 +157,7 @@ def plan_repeats(
     now_utc: datetime,
     acknowledged: Collection[str] = frozenset(),
     sun_altitude_deg: Callable[[Sequence[datetime]], Sequence[float]] | None = None,
+    until_utc: datetime | None = None,
 ) -> tuple[PlannedAlert, ...]:
     """The repeats of every unacknowledged critical event in the agenda (see ``plan.insist``).
 
@@ -163,6 +165,9 @@ def plan_repeats(
         agenda, config, muted, now_utc, sun_altitude_deg: as for :func:`plan_alerts`; a repeat is
             muted, held by the Sun and dropped past its grace exactly like a configured alert.
         acknowledged: event ids (``insist.event_id`` of a key) that get no more repeats.
+        until_utc: leave out repeats due after this (aware UTC): the service plans repeats only
+            up to the end of its current stretch, and each re-plan adds the next one (a repeat
+            keeps its key and number whichever plan makes it). None: the whole series.
 
     Returns:
         One PlannedAlert per repeat, its own key made from the event and the repeat's lead
@@ -195,6 +200,8 @@ def plan_repeats(
         dues.extend(event.time_utc - timedelta(minutes=lead) for lead in leads)
     candidates: dict[str, tuple[Event, float, datetime, int]] = {}
     for event, dues in groups.values():
+        if until_utc is not None and min(dues) >= until_utc:
+            continue  # its first repeat comes after the first configured alert: a later stretch
         next_stage_utc = None
         if event.kind is EventKind.FLIP_DUE and event.target is not None:
             later = [t for t in limits.get(event.target, ()) if t >= event.time_utc]
@@ -203,6 +210,8 @@ def plan_repeats(
         times = repeat_times(dues, repeat_minutes=rules.repeat_minutes, repeat_count=rules.repeat_count,
                              next_stage_utc=next_stage_utc)
         for number, due_utc in enumerate(times, start=1):
+            if until_utc is not None and due_utc > until_utc:
+                break
             if due_utc < earliest_due_utc or _is_muted(muted, mute_name, due_utc, now_utc):
                 continue
             lead = round((event.time_utc - due_utc).total_seconds() / 60.0, 6)
@@ -210,10 +219,14 @@ def plan_repeats(
     held = _held_by_sun({k: v[:3] for k, v in candidates.items()}, rules.hold_while_sun_above_deg,
                         sun_altitude_deg, held_kinds(rules))
     repeats = []
+    bodies: dict[int, str] = {}  # the body is the event's, whatever the lead: formatted once per event
     for key, (event, lead, due_utc, number) in candidates.items():
         if key in held:
             continue
-        title, body = format_alert(event, max(lead, 0.0), config.site)
+        body = bodies.get(id(event))
+        if body is None:
+            body = bodies[id(event)] = format_alert(event, 0.0, config.site)[1]
+        title = format_title(event, max(lead, 0.0))
         title, body = format_repeat(title, body, number, rules.repeat_minutes)
         repeats.append(PlannedAlert(key=key, event=event, lead_minutes=float(lead), due_utc=due_utc,
                                     urgency=Urgency.CRITICAL, title=title, body=body, repeat_number=number))
@@ -314,16 +327,7 @@ def format_alert(event: Event, lead_minutes: float, site: Site) -> tuple[str, st
     The title names the target and the event and says how soon; the body gives the event time
     in the site's local time and in UTC, the hour angle and the altitude.
     """
-    what = _EVENT_PHRASES[event.kind].format(
-        target=event.target or "",
-        threshold=_format_deg(event.threshold_deg),
-        mark=_format_hour_angle(event.mark_hours),
-        source=event.beam_source or "",
-    )
-    if lead_minutes > 0:
-        title = f"{what} in {_format_lead(lead_minutes)} min"
-    else:
-        title = f"{what} now"
+    title = format_title(event, lead_minutes)
     local_text = _format_local(event.time_utc, site.timezone)
     lines = [
         f"At {local_text} ({_round_to_second(event.time_utc).strftime('%H:%M:%S')} UTC)",
@@ -345,6 +349,19 @@ def format_alert(event: Event, lead_minutes: float, site: Site) -> tuple[str, st
         lines.append(f"Caution: {event.sun_separation_deg:.0f}° from the Sun. Never point unfiltered "
                      "optics at or near the Sun.")
     return title, "\n".join(lines)
+
+
+def format_title(event: Event, lead_minutes: float) -> str:
+    """The notification title of one alert: the target, the event and how soon."""
+    what = _EVENT_PHRASES[event.kind].format(
+        target=event.target or "",
+        threshold=_format_deg(event.threshold_deg),
+        mark=_format_hour_angle(event.mark_hours),
+        source=event.beam_source or "",
+    )
+    if lead_minutes > 0:
+        return f"{what} in {_format_lead(lead_minutes)} min"
+    return f"{what} now"
 
 
 def format_missed_summary(titles: Iterable[str], grace_minutes: float) -> tuple[str, str]:

@@ -67,7 +67,7 @@ from siderod.service.delivery import (
 from siderod.service.ledger import Ledger, LedgerRow, open_ledger
 from siderod.service.scheduling import Scheduler, SchedulerFactory
 
-__all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS"]
+__all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS", "repeat_stretch_minutes"]
 
 log = logging.getLogger("siderod.service")
 
@@ -88,7 +88,8 @@ LEDGER_RETRY_SECONDS = 10.0
 # Closed ledger rows older than this are forgotten at start-up.
 LEDGER_KEEP_DAYS = 14
 # The scheduler holds the alerts due within twice the re-plan interval, and at least this long
-# (every re-plan refreshes them; see Service._schedule).
+# (every re-plan refreshes them; see Service._schedule). Critical repeats are planned as far
+# (repeat_stretch_minutes).
 SCHEDULE_MIN_MINUTES = 180.0
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
 STOP_WAIT_SECONDS = 15.0
@@ -554,6 +555,7 @@ class Service:
             self._mutes = self._ledger.mutes(now_utc)
             planned, near_sun = await self._compute_plan(config, start_utc, hours, dict(self._mutes),
                                                          now_utc, self._ledger.acknowledged())
+
             planned = self._mount.adjust(planned, config)  # the target in use
             # Only critical alerts insist: a repeat made less urgent by the target in use goes.
             planned = tuple(a for a in planned if a.repeat_number == 0 or a.urgency is Urgency.CRITICAL)
@@ -611,15 +613,24 @@ class Service:
             return
         grace_seconds = self.config.alerts.grace_minutes * 60.0
         if late_seconds > grace_seconds:
-            self._write("mark missed", lambda: self._ledger.mark_missed(key, now_utc))
             del self._plan[key]
+            if alert.repeat_number:
+                # A reminder, not a debt (plan/insist.py): the next repeat reminds again.
+                log.info("repeat %s dropped: %.0f s late, past its grace; the series goes on",
+                         key, late_seconds)
+                return
+            self._write("mark missed", lambda: self._ledger.mark_missed(key, now_utc))
             self._note_missed(alert.title, alert.due_utc)
             return
         message = _message_from_row(_row_from_alert(alert))
         # A channel with a filter (a push destination's urgency and kinds) owes only what it takes.
         names = [name for name, worker in self._workers.items() if channel_accepts(worker.channel, message)]
-        claimed = self._write("claim", lambda: self._ledger.claim(key, now_utc, names),
-                              replay=lambda: self._ledger.record_claim(alert, now_utc, names))
+        ledger = self._ledger
+        if alert.repeat_number:  # no planned row (see _write_plan): written and claimed at once
+            claimed = self._write("claim", lambda: ledger.record_claim(alert, now_utc, names))
+        else:
+            claimed = self._write("claim", lambda: ledger.claim(key, now_utc, names),
+                                  replay=lambda: ledger.record_claim(alert, now_utc, names))
         if claimed is None:  # the ledger cannot be written: deliver from memory, write it later
             self._claimed_unwritten.add(key)
         elif not claimed:
@@ -989,13 +1000,23 @@ class Service:
         """
         assert self._ledger is not None
         ledger = self._ledger
+        # Repeats are not written as planned rows: a repeat enters the ledger when it is claimed
+        # (record_claim in _deliver), so one past its grace is never swept as missed (a repeat is
+        # a reminder, see plan/insist.py), and most of a plan's rows are never written at all.
+        configured = [a for a in planned if not a.repeat_number]
+        repeats = [a for a in planned if a.repeat_number]
+
+        def open_keys(own: Ledger) -> frozenset[str]:
+            return own.replace_planned(configured, now_utc) | (
+                frozenset(a.key for a in repeats) - own.settled_keys(repeats))
+
         try:
             if not self._offload_planning or self._ledger_path == ":memory:":
-                return _index_plan(planned, ledger.replace_planned(planned, now_utc))
+                return _index_plan(planned, open_keys(ledger))
 
             def write() -> _IndexedPlan:
                 with Ledger(self._ledger_path) as own:
-                    return _index_plan(planned, own.replace_planned(planned, now_utc))
+                    return _index_plan(planned, open_keys(own))
 
             return await asyncio.to_thread(write)
         except sqlite3.Error as exc:  # a full or failing disk: the next re-plan writes it again
@@ -1010,8 +1031,7 @@ class Service:
         costs the loop a few thousand APScheduler jobs instead of a hundred thousand.
         """
         assert self.config is not None and self._scheduler is not None
-        lookahead = timedelta(minutes=max(2.0 * self.config.alerts.replan_minutes, SCHEDULE_MIN_MINUTES))
-        until_utc = now_utc + lookahead
+        until_utc = now_utc + timedelta(minutes=repeat_stretch_minutes(self.config))
         upcoming = itertools.dropwhile(lambda a: a.due_utc <= now_utc, self._plan.values())
         self._scheduler.replace_jobs(list(itertools.takewhile(lambda a: a.due_utc <= until_utc, upcoming)))
 
@@ -1034,7 +1054,10 @@ class Service:
             agenda = source(config, start_utc, hours)
             common = {"muted": muted, "now_utc": now_utc, "sun_altitude_deg": sun_altitude}
             planned = plan_alerts(agenda, config, **common)
-            planned += plan_repeats(agenda, config, acknowledged=acknowledged, **common)
+            # Repeats only for the stretch up to the next re-plan and a margin (the scheduler's
+            # lookahead): each re-plan adds the next stretch (see repeat_stretch_minutes).
+            until_utc = now_utc + timedelta(minutes=repeat_stretch_minutes(config))
+            planned += plan_repeats(agenda, config, acknowledged=acknowledged, until_utc=until_utc, **common)
             near_sun = sorted({e.target for e in getattr(agenda, "events", ())
                                if too_near_the_sun(e, config.alerts)})
             # Due order (then key): snapshot(), replan() and _schedule() take prefixes of it.
@@ -1108,6 +1131,18 @@ class Service:
         notify(message, self._env)
 
 
+def repeat_stretch_minutes(config: Config) -> float:
+    """How far ahead of a re-plan critical repeats are planned and alerts handed to the scheduler.
+
+    Twice the re-plan interval (so a late re-plan leaves nothing unplanned), at least
+    ``SCHEDULE_MIN_MINUTES``, and at least two repeat periods (so an event given and awaiting
+    acknowledgement always has its next repeat in the plan). Each re-plan plans the next stretch;
+    a repeat keeps its key and number whichever plan makes it (see plan/insist.py).
+    """
+    rules = config.alerts
+    return max(2.0 * rules.replan_minutes, SCHEDULE_MIN_MINUTES, 2.0 * rules.repeat_minutes)
+
+
 _IndexedPlan = tuple[dict[str, PlannedAlert], dict[str, tuple[str, ...]]]
 
 
@@ -1127,8 +1162,8 @@ _SUMMARY = "\x00summary"  # queue marker: send the missed-alert summary once the
 
 def _first_repeat_only(alerts: Iterable[PlannedAlert]) -> Iterator[PlannedAlert]:
     """``alerts`` without the repeats of an event already listed: a critical event's repeats
-    are planned far ahead (until acknowledged), and would otherwise crowd every other alert out
-    of "next alerts". Its next repeat is listed; the count of planned alerts keeps them all."""
+    (planned for the whole stretch, until acknowledged) would otherwise crowd every other alert
+    out of "next alerts". Its next repeat is listed; the count of planned alerts keeps them all."""
     listed: set[str] = set()
     for alert in alerts:
         event = event_id(alert.key)
