@@ -1027,8 +1027,8 @@ class Service:
         """Hand the scheduler the open alerts due from now until well past the next re-plan.
 
         The plan reaches ``horizon_hours`` ahead (36 h), but every re-plan hands the scheduler a
-        fresh set, so only alerts due before the next one are needed: a 20,000-target plan then
-        costs the loop a few thousand APScheduler jobs instead of a hundred thousand.
+        fresh set, so only alerts due before the next one are needed (the same stretch as the
+        critical repeats', ``repeat_stretch_minutes``).
         """
         assert self.config is not None and self._scheduler is not None
         until_utc = now_utc + timedelta(minutes=repeat_stretch_minutes(self.config))
