@@ -165,3 +165,27 @@ def test_sun_hold_never_silences_flip_or_limit_alerts_unless_named():
     named = replace(config, alerts=replace(config.alerts, hold_kinds=both))
     plan = plan_alerts(_Agenda(events), named, muted={}, now_utc=NOW, sun_altitude_deg=sun_up)
     assert [a.event.kind.value for a in plan] == ["tracking-limit"]
+
+
+@dataclass
+class _RecordsOnly:
+    events: tuple
+
+
+def test_planning_from_the_agenda_columns_equals_planning_from_every_record(demo_config):
+    # The planner makes records only of the rows whose kind can have an alert; the result must be
+    # exactly what planning over every record gives (the demo night, its flips repeating).
+    from siderod.plan.agenda import compute_agenda
+    from siderod.plan.planner import near_sun_targets, plan_repeats
+
+    start = datetime(2026, 12, 14, 16, 0, tzinfo=UTC)
+    agenda = compute_agenda(demo_config, start, 14.0)
+    records = _RecordsOnly(agenda.events)
+    assert len({e.kind for e in records.events}) > len(demo_config.alerts.lead_minutes)  # some kinds skipped
+    now = start + timedelta(hours=3)
+    until = now + timedelta(hours=3)
+    for plan in (plan_alerts, lambda a, c, **kw: plan_repeats(a, c, until_utc=until, **kw)):
+        from_columns = plan(agenda, demo_config, muted={}, now_utc=now)
+        assert from_columns and from_columns == plan(records, demo_config, muted={}, now_utc=now)
+    near = replace(demo_config.alerts, sun_separation_min_deg=120.0)  # some demo targets by day
+    assert near_sun_targets(agenda, near) == near_sun_targets(records, near) != []

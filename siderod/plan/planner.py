@@ -12,6 +12,8 @@ from datetime import UTC, datetime, timedelta
 from typing import Protocol
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
+import numpy as np
+
 from siderod.common.model import (
     BEAM_EVENT_KINDS,
     AlertRules,
@@ -36,6 +38,7 @@ __all__ = [
     "SKY_KINDS",
     "SKY_TARGET_NAME",
     "held_kinds",
+    "near_sun_targets",
     "SUN_CAUTION_DEG",
     "too_near_the_sun",
 ]
@@ -120,7 +123,7 @@ def plan_alerts(
     earliest_due_utc = now_utc - grace
     targets = {t.name: t for t in config.targets}
     candidates: dict[str, tuple[Event, float, datetime]] = {}
-    for event in agenda.events:
+    for event in _events_of_kinds(agenda, _kinds_with_leads(config)):
         if too_near_the_sun(event, rules):
             continue  # never lead an observer towards the Sun; the service logs these
         leads = _lead_minutes_for(event, targets, rules.lead_minutes)
@@ -186,7 +189,8 @@ def plan_repeats(
     # alert that started its series has dropped out of the plan.
     groups: dict[str, tuple[Event, list[datetime]]] = {}
     limits: dict[str, list[datetime]] = {}
-    for event in agenda.events:
+    critical = {kind for kind in _kinds_with_leads(config) if _urgency(rules, kind) is Urgency.CRITICAL}
+    for event in _events_of_kinds(agenda, critical | {EventKind.TRACKING_LIMIT}):
         leads = _lead_minutes_for(event, targets, rules.lead_minutes)
         if event.kind is EventKind.TRACKING_LIMIT and event.target is not None:
             dues = [event.time_utc - timedelta(minutes=lead) for lead in leads] or [event.time_utc]
@@ -251,6 +255,38 @@ def repeat_lookback_minutes(config: Config) -> float:
     latest_after = max((-min(leads, default=0.0) for leads in rules.lead_minutes.values()), default=0.0)
     span = max(counted, flip_to_limit + rules.repeat_minutes) + max(0.0, latest_after)
     return min(span, rules.repeat_minutes * (MAX_REPEATS + 1) + max(0.0, latest_after))
+
+
+def near_sun_targets(agenda: _AgendaLike, rules: AlertRules) -> list[str]:
+    """The targets with an event closer to the Sun than ``[alerts] sun_separation_min`` (sorted)."""
+    table = getattr(agenda, "table", None)
+    if table is None:
+        return sorted({e.target for e in agenda.events if too_near_the_sun(e, rules)})
+    with np.errstate(invalid="ignore"):  # NaN: no separation for this kind
+        near = (table.target >= 0) & (table.sun_separation_deg < rules.sun_separation_min_deg)
+    return sorted({table.names[i] for i in np.unique(table.target[near]).tolist()})
+
+
+def _kinds_with_leads(config: Config) -> frozenset[EventKind]:
+    """Every kind some alert can be given for: lead times globally or for some target."""
+    kinds = {kind for kind, leads in config.alerts.lead_minutes.items() if leads}
+    for target in config.targets:
+        if target.lead_minutes:
+            kinds.update(kind for kind, leads in target.lead_minutes.items() if leads)
+    return frozenset(kinds)
+
+
+def _events_of_kinds(agenda: _AgendaLike, kinds: Collection[EventKind]) -> Sequence[Event]:
+    """The agenda's events of these kinds, in its order. An agenda that keeps its events as
+    columns (``table``) makes records of these rows only: most of a big agenda's events (rise,
+    set, hour-angle marks...) have no alert, and a record costs more than the planning itself."""
+    table = getattr(agenda, "table", None)
+    if table is None:
+        return [e for e in agenda.events if e.kind in kinds]
+    from siderod.plan.table import KIND_CODES
+
+    codes = np.array(sorted(KIND_CODES[kind] for kind in kinds), dtype=table.kind.dtype)
+    return table.take(np.flatnonzero(np.isin(table.kind, codes))).records()
 
 
 def _urgency(rules: AlertRules, kind: EventKind) -> Urgency:

@@ -48,10 +48,10 @@ from siderod.plan.insist import event_id
 from siderod.plan.planner import (
     SKY_TARGET_NAME,
     format_missed_summary,
+    near_sun_targets,
     plan_alerts,
     plan_repeats,
     repeat_lookback_minutes,
-    too_near_the_sun,
 )
 from siderod.service.anomaly import ClockAnomaly, ClockWatch
 from siderod.service.delivery import (
@@ -1058,8 +1058,7 @@ class Service:
             # lookahead): each re-plan adds the next stretch (see repeat_stretch_minutes).
             until_utc = now_utc + timedelta(minutes=repeat_stretch_minutes(config))
             planned += plan_repeats(agenda, config, acknowledged=acknowledged, until_utc=until_utc, **common)
-            near_sun = sorted({e.target for e in getattr(agenda, "events", ())
-                               if too_near_the_sun(e, config.alerts)})
+            near_sun = near_sun_targets(agenda, config.alerts)
             # Due order (then key): snapshot(), replan() and _schedule() take prefixes of it.
             return tuple(sorted(planned, key=lambda a: (a.due_utc, a.key))), near_sun
 
