@@ -51,6 +51,21 @@ def test_replace_planned_drops_stale_rows_and_keeps_settled_ones(tmp_path):
         assert {r.key: r.state for r in ledger.rows()} == {first.key: "delivered", moved.key: "planned"}
 
 
+def test_a_plan_of_the_first_stretch_keeps_the_planned_rows_after_it(tmp_path):
+    # The service's first plan covers only its first stretch (to be ready soon); the plan of the
+    # whole horizon follows. Until then, rows a previous run planned after the stretch stay, so a
+    # stop in between still leaves them to be swept as missed, and nothing is lost.
+    with Ledger(tmp_path / "l.sqlite3") as ledger:
+        near, moved, far = _alert(10), _alert(20, "M42"), _alert(300, "M33")
+        ledger.replace_planned([near, moved, far], NOW)
+        cut_utc = NOW + timedelta(hours=3)
+        again = _alert(25, "M42")  # the event moved: the old row within the stretch goes
+        assert ledger.replace_planned([near, again], NOW, keep_after_utc=cut_utc) == {near.key, again.key}
+        assert {r.key for r in ledger.rows("planned")} == {near.key, again.key, far.key}
+        assert ledger.replace_planned([near, again], NOW) == {near.key, again.key}  # the whole plan
+        assert {r.key for r in ledger.rows("planned")} == {near.key, again.key}
+
+
 def test_an_event_found_a_little_apart_is_the_same_alert(tmp_path):
     with Ledger(tmp_path / "l.sqlite3") as ledger:
         original = _alert(10, jitter_seconds=0.49)

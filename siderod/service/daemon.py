@@ -190,6 +190,7 @@ class Service:
         self._stop = asyncio.Event()
         self._reload_asked = asyncio.Event()
         self._ready = asyncio.Event()
+        self._whole_plan = asyncio.Event()  # set once a plan of the whole horizon is made
         self._file_stamps: dict[str, tuple[int, int] | None] = {}
         self._sun_altitude: Callable[[datetime], float] | None = None
         self._service_message_count = 0
@@ -252,7 +253,10 @@ class Service:
             self._start_workers()
             if ledger_notice:
                 self._put_service_message("siderod: alert ledger replaced", ledger_notice, Urgency.NORMAL)
-            await self.replan("start")
+            # Ready soon however long the target list: the first plan covers the first stretch
+            # (all the scheduler needs); the whole horizon is planned at once after READY=1.
+            first_stretch_only = config_needs_a_first_stretch(self.config)
+            await self.replan("start", stretch_only=first_stretch_only)
             self._notify("READY=1\n" + self._status_line())
             self._ready.set()
             log.info(
@@ -265,6 +269,8 @@ class Service:
             )
             try:
                 async with asyncio.TaskGroup() as tasks:
+                    if first_stretch_only:
+                        tasks.create_task(self.replan("start: the whole horizon"), name="first-horizon")
                     tasks.create_task(self._dispatcher(), name="dispatch")
                     tasks.create_task(self._supervise_workers(), name="channel-workers")
                     watch = ClockWatch(
@@ -298,6 +304,11 @@ class Service:
     async def wait_ready(self) -> None:
         """Wait until the first plan is made (tests and the CLI's live view use this)."""
         await self._ready.wait()
+
+    async def wait_whole_plan(self) -> None:
+        """Wait until a plan of the whole horizon is made: at start, right after the first
+        stretch's plan and READY=1 (see ``replan(stretch_only=True)``)."""
+        await self._whole_plan.wait()
 
     def request_stop(self) -> None:
         """Ask for a graceful stop: the alert being sent finishes, then everything closes."""
@@ -530,8 +541,13 @@ class Service:
         results = await asyncio.gather(*(self._send_direct(c, message) for c in channels))
         return {c.name: r for c, r in zip(channels, results, strict=True)}
 
-    async def replan(self, reason: str) -> None:
-        """Sweep missed alerts, compute the agenda for the horizon and hand the open alerts out."""
+    async def replan(self, reason: str, *, stretch_only: bool = False) -> None:
+        """Sweep missed alerts, compute the agenda for the horizon and hand the open alerts out.
+
+        ``stretch_only`` (the first plan at start): plan only the alerts due within the stretch
+        (``repeat_stretch_minutes``), from an agenda just long enough to hold their events; the
+        ledger keeps what an earlier run planned after it until the next whole plan.
+        """
         assert self.config is not None and self._ledger is not None and self._scheduler is not None
         async with self._plan_lock:
             config = self.config
@@ -551,7 +567,12 @@ class Service:
             # Early enough that an event whose repeats are still owed is in the agenda.
             lookback = grace + timedelta(minutes=repeat_lookback_minutes(config))
             start_utc = now_utc - lookback
-            hours = config.alerts.horizon_hours + lookback.total_seconds() / 3600.0
+            stretch_minutes = repeat_stretch_minutes(config)
+            stretch_end_utc = now_utc + timedelta(minutes=stretch_minutes)
+            ahead_hours = config.alerts.horizon_hours
+            if stretch_only:  # the events of every alert due within the stretch, and no more
+                ahead_hours = min(ahead_hours, (stretch_minutes + _longest_lead_minutes(config)) / 60.0)
+            hours = ahead_hours + lookback.total_seconds() / 3600.0
             self._mutes = self._ledger.mutes(now_utc)
             planned, near_sun = await self._compute_plan(config, start_utc, hours, dict(self._mutes),
                                                          now_utc, self._ledger.acknowledged())
@@ -564,8 +585,12 @@ class Service:
                          ", ".join(near_sun), config.alerts.sun_separation_min_deg)
             if self._catch_up_floor_utc is not None:
                 planned = tuple(a for a in planned if a.due_utc >= self._catch_up_floor_utc)
+            keep_after_utc = None
+            if stretch_only:
+                planned = tuple(a for a in planned if a.due_utc <= stretch_end_utc)
+                keep_after_utc = stretch_end_utc
             now_utc = self._clock.now_utc()  # the agenda may have taken a while
-            written = await self._write_plan(planned, now_utc)
+            written = await self._write_plan(planned, now_utc, keep_after_utc)
             if written is None:  # not written: plan from what the ledger holds and what we sent since
                 settled = self._ledger.settled_keys(planned) | self._claimed_unwritten
                 written = _index_plan(planned, frozenset(a.key for a in planned if a.key not in settled))
@@ -576,11 +601,14 @@ class Service:
                 self._queue.put_nowait(alert.key)
             if self._missed_titles:
                 self._queue.put_nowait(_SUMMARY)
+            if not stretch_only:
+                self._whole_plan.set()
             log.info(
-                "planned %d alerts to %s (%s); %d due now",
+                "planned %d alerts to %s (%s%s); %d due now",
                 len(self._plan),
-                _iso(now_utc + timedelta(hours=config.alerts.horizon_hours)),
+                _iso(stretch_end_utc if stretch_only else now_utc + timedelta(hours=ahead_hours)),
                 reason,
+                ": the first stretch, the whole horizon follows" if stretch_only else "",
                 len(due_now),
             )
         self._notify(self._status_line())
@@ -989,7 +1017,8 @@ class Service:
         assert self.config is not None
         return APSchedulerAdapter(self._on_due)
 
-    async def _write_plan(self, planned: Sequence[PlannedAlert], now_utc: datetime) -> _IndexedPlan | None:
+    async def _write_plan(self, planned: Sequence[PlannedAlert], now_utc: datetime,
+                          keep_after_utc: datetime | None = None) -> _IndexedPlan | None:
         """Write the plan to the ledger; return its open alerts by key (in the planner's order) and
         the keys of the repeats planned for each event, or None if the ledger could not be written.
 
@@ -997,6 +1026,7 @@ class Service:
         of rows must not stall the loop. The write is one short transaction (see
         ``Ledger.replace_planned``), so a claim or a delivery record from the loop waits at most
         that long for SQLite's write lock, and sees the old plan or the new one, never half.
+        ``keep_after_utc``: the plan of the first stretch only (see ``Ledger.replace_planned``).
         """
         assert self._ledger is not None
         ledger = self._ledger
@@ -1007,7 +1037,7 @@ class Service:
         repeats = [a for a in planned if a.repeat_number]
 
         def open_keys(own: Ledger) -> frozenset[str]:
-            return own.replace_planned(configured, now_utc) | (
+            return own.replace_planned(configured, now_utc, keep_after_utc=keep_after_utc) | (
                 frozenset(a.key for a in repeats) - own.settled_keys(repeats))
 
         try:
@@ -1140,6 +1170,22 @@ def repeat_stretch_minutes(config: Config) -> float:
     """
     rules = config.alerts
     return max(2.0 * rules.replan_minutes, SCHEDULE_MIN_MINUTES, 2.0 * rules.repeat_minutes)
+
+
+def config_needs_a_first_stretch(config: Config) -> bool:
+    """True when the horizon reaches past the first stretch: the service then makes its first
+    plan for the stretch alone (ready sooner) and the whole plan right after READY=1."""
+    stretch_hours = (repeat_stretch_minutes(config) + _longest_lead_minutes(config)) / 60.0
+    return config.alerts.horizon_hours > stretch_hours
+
+
+def _longest_lead_minutes(config: Config) -> float:
+    """The longest lead time of any alert (minutes before its event; 0 if none is before)."""
+    leads = [lead for leads in config.alerts.lead_minutes.values() for lead in leads]
+    for target in config.targets:
+        if target.lead_minutes:
+            leads.extend(lead for leads in target.lead_minutes.values() for lead in leads)
+    return max([0.0, *leads])
 
 
 _IndexedPlan = tuple[dict[str, PlannedAlert], dict[str, tuple[str, ...]]]

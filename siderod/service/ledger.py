@@ -149,7 +149,8 @@ class Ledger:
         return str(self._db.execute("PRAGMA journal_mode").fetchone()[0])
 
     # -- planning --------------------------------------------------------------------------
-    def replace_planned(self, alerts: Iterable[PlannedAlert], now_utc: datetime) -> frozenset[str]:
+    def replace_planned(self, alerts: Iterable[PlannedAlert], now_utc: datetime, *,
+                        keep_after_utc: datetime | None = None) -> frozenset[str]:
         """Make the plan the ledger holds equal to ``alerts``; return the keys still open.
 
         Rows still ``planned`` that are not in ``alerts`` are dropped (the event moved, the target
@@ -157,6 +158,10 @@ class Ledger:
         alert that matches one of them (same key, or same target, kind and lead with the event
         within ``EVENT_MATCH_SECONDS``) is not planned again. Sweep overdue rows with
         ``sweep_missed`` *before* calling this, or they vanish instead of being counted missed.
+
+        Args:
+            keep_after_utc: ``alerts`` is the plan up to this instant only (the service's first
+                stretch): planned rows due after it are kept until a plan of the whole horizon.
 
         Returns:
             The keys of ``alerts`` that are open (state ``planned``): the ones to schedule.
@@ -170,8 +175,16 @@ class Ledger:
         with self._transaction():
             settled = self._settled_near(rows)
             fresh = [row for row in rows if not _matches_settled(row, settled)]
-            self._db.execute("DELETE FROM alerts WHERE state = 'planned'")
-            self._db.executemany(_INSERT_PLANNED_SQL, fresh)
+            if keep_after_utc is None:
+                self._db.execute("DELETE FROM alerts WHERE state = 'planned'")
+                self._db.executemany(_INSERT_PLANNED_SQL, fresh)
+            else:
+                self._db.execute("DELETE FROM alerts WHERE state = 'planned' AND due_unix <= ?",
+                                 (keep_after_utc.timestamp(),))
+                # A kept row may share a key with a fresh one (its due time a fraction of a second
+                # apart, across the cut): the fresh one replaces it (never a settled row: those
+                # were matched above).
+                self._db.executemany(_INSERT_PLANNED_SQL.replace("INSERT", "INSERT OR REPLACE", 1), fresh)
         return frozenset(row[0] for row in fresh)
 
     def sweep_missed(self, before_utc: datetime, now_utc: datetime) -> tuple[LedgerRow, ...]:

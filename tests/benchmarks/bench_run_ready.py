@@ -10,7 +10,11 @@ a datagram socket this script listens on. It prints, from process start:
 
 - ``READY=1``: when the service's READY=1 datagram arrived (the first plan is made and written);
 - ``status``: when a ``status`` request on the real control socket first showed planned alerts;
-- peak RSS (VmHWM from /proc just before the stop) and the CPU seconds of the process until then.
+- CPU seconds and peak RSS (VmHWM from /proc) at that point;
+- ``whole``: when the plan of the whole horizon was made (the service plans its first stretch before
+  READY=1 and the rest right after, and logs "(start: the whole horizon)"), with CPU seconds, peak
+  RSS and ``planned_count`` then. A checkout that plans everything before READY=1 shows the same
+  figures twice.
 
 ``--previous PATH`` runs the same cases against another checkout (e.g. a ``git worktree`` of the commit
 before a change) and prints the ratios. The machine is shared: the load average is printed, and CPU
@@ -59,8 +63,9 @@ def measure(code_root: pathlib.Path, count: int, limit_seconds: float) -> dict[s
         start = time.perf_counter()
         process = subprocess.Popen(argv, stdout=subprocess.DEVNULL, stderr=open(home / "log", "wb"),
                                    env=env, cwd=home)
-        ready = status = float("nan")
-        planned = 0
+        ready = status = whole = float("nan")
+        planned = whole_planned = 0
+        ready_mb = ready_cpu = float("nan")
         try:
             while time.perf_counter() - start < limit_seconds:
                 if process.poll() is not None:
@@ -75,10 +80,17 @@ def measure(code_root: pathlib.Path, count: int, limit_seconds: float) -> dict[s
                     planned = _planned_count(control_path)
                     if planned:
                         status = time.perf_counter() - start
-                if ready == ready and status == status:
-                    break
+                        ready_mb, ready_cpu = _peak_rss_mb(process.pid), _cpu_seconds(process.pid)
+                elif status == status and ready == ready:
+                    log_text = (home / "log").read_text(errors="replace")
+                    if "first stretch" not in log_text or "(start: the whole horizon)" in log_text:
+                        whole = time.perf_counter() - start
+                        whole_planned = _planned_count(control_path)
+                        break
                 time.sleep(0.01)
             peak_mb, cpu_seconds = _peak_rss_mb(process.pid), _cpu_seconds(process.pid)
+            if "first stretch" not in (home / "log").read_text(errors="replace"):
+                whole, peak_mb, cpu_seconds = status, ready_mb, ready_cpu  # the first plan was whole
         finally:
             process.send_signal(signal.SIGTERM)
             try:
@@ -87,7 +99,9 @@ def measure(code_root: pathlib.Path, count: int, limit_seconds: float) -> dict[s
                 process.kill()
                 process.wait()
             listener.close()
-        return {"ready": ready, "status": status, "peak_mb": peak_mb, "cpu": cpu_seconds, "planned": planned}
+        return {"ready": ready, "status": status, "ready_mb": ready_mb, "ready_cpu": ready_cpu,
+                "planned": planned, "whole": whole, "peak_mb": peak_mb, "cpu": cpu_seconds,
+                "whole_planned": whole_planned}
 
 
 def _planned_count(path: pathlib.Path) -> int:
@@ -143,19 +157,21 @@ def main() -> None:
           f"{os.cpu_count()} cores; this checkout {_commit(ROOT)}"
           + (f", previous {args.previous} at {_commit(args.previous)}" if args.previous else ""))
     print(f"{'targets':>8} {'code':>8} {'READY=1 s':>10} {'status s':>9} {'CPU s':>7} {'peak MB':>8} "
-          f"{'planned':>8}")
+          f"{'planned':>8} | {'whole s':>8} {'CPU s':>7} {'peak MB':>8} {'planned':>8}")
     for count in args.targets:
         rows = [("now", measure(ROOT, count, args.limit))]
         if args.previous is not None:
             rows.append(("previous", measure(args.previous, count, args.limit)))
         for label, r in rows:
-            print(f"{count:>8} {label:>8} {r['ready']:>10.2f} {r['status']:>9.2f} {r['cpu']:>7.2f} "
-                  f"{r['peak_mb']:>8.0f} {r['planned']:>8}")
+            print(f"{count:>8} {label:>8} {r['ready']:>10.2f} {r['status']:>9.2f} {r['ready_cpu']:>7.2f} "
+                  f"{r['ready_mb']:>8.0f} {r['planned']:>8} | {r['whole']:>8.2f} {r['cpu']:>7.2f} "
+                  f"{r['peak_mb']:>8.0f} {r['whole_planned']:>8}")
         if len(rows) == 2:
             now, before = rows[0][1], rows[1][1]
-            print(f"{count:>8} {'ratio':>8} {before['ready'] / now['ready']:>9.1f}x "
-                  f"{before['status'] / now['status']:>8.1f}x {before['cpu'] / now['cpu']:>6.1f}x "
-                  f"{before['peak_mb'] / now['peak_mb']:>7.1f}x   (previous / now)")
+            ratio = {name: before[name] / now[name] for name in now if name != "planned"}
+            print(f"{count:>8} {'ratio':>8} {ratio['ready']:>9.1f}x {ratio['status']:>8.1f}x "
+                  f"{ratio['ready_cpu']:>6.1f}x {ratio['ready_mb']:>7.1f}x {'':>8} | {ratio['whole']:>7.1f}x "
+                  f"{ratio['cpu']:>6.1f}x {ratio['peak_mb']:>7.1f}x   (previous / now)")
     print(f"load average after: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
 
 

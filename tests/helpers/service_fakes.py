@@ -208,9 +208,21 @@ def synthetic_night(targets=("NGC 1001", "NGC 1002", "NGC 1003", "NGC 1004", "NG
 
 
 async def run_service_until(service, clock: FakeClock, until_utc: datetime, *, step_seconds: float = 60.0):
-    """Start ``service.run()`` and advance the fake clock to ``until_utc``; return the run task."""
+    """Start ``service.run()`` and advance the fake clock to ``until_utc``; return the run task.
+
+    Time starts to pass only once the whole horizon is planned: at start the service plans its
+    first stretch, says it is ready, and plans the rest at once (tests inspect the whole plan).
+    """
     task = asyncio.get_running_loop().create_task(service.run())
     await wait_ready(service, task)
+    for _ in range(1000):
+        if service._whole_plan.is_set():
+            break
+        if task.done():
+            task.result()
+        await asyncio.sleep(0)
+    else:
+        raise AssertionError("the service did not plan its whole horizon")
     while clock.now_utc() < until_utc:
         seconds = min(step_seconds, (until_utc - clock.now_utc()).total_seconds())
         await clock.advance(seconds)

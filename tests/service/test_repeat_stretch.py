@@ -7,6 +7,7 @@ worked by the rule in siderod.plan.insist; nothing here reads the real clock.
 
 from __future__ import annotations
 
+import asyncio
 import sqlite3
 from datetime import timedelta
 
@@ -22,6 +23,8 @@ ON_TIME_SECONDS = 1.0
 # 2-minute repeats, 120 of them (the cap) after a tracking limit: a 4-hour series, longer than a stretch.
 REPEAT_MINUTES = 2.0
 REPEAT_COUNT = 500
+# Bounds a failure only: the whole plan follows READY=1 within a few loop turns (no time passes).
+WAIT_SECONDS = 10.0
 
 
 def _service(tmp_path, clock, config, channels):
@@ -141,3 +144,31 @@ async def test_after_a_stop_repeats_past_their_grace_are_not_missed_and_the_seri
     for received, alert in zip(got, owed, strict=True):
         assert received.when_utc - alert.due_utc <= max(restart_utc - alert.due_utc,
                                                          timedelta(seconds=ON_TIME_SECONDS))
+
+
+async def test_the_first_plan_is_the_first_stretch_and_the_whole_horizon_follows(tmp_path):
+    # Ready soon on a big target list: the plan made before READY=1 covers what the scheduler
+    # needs (the stretch, and the events whose alerts fall in it); the whole horizon is planned
+    # right after, before any time passes.
+    from siderod.service.daemon import repeat_stretch_minutes
+
+    clock = FakeClock(fakes.NIGHT_START_UTC)
+    config = _config()
+    source = fakes.FixedAgendaSource(fakes.synthetic_night())
+    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    service._agenda_source = source
+    task = asyncio.get_running_loop().create_task(service.run())
+    await fakes.wait_ready(service, task)
+    stretch_end = clock.now_utc() + timedelta(minutes=repeat_stretch_minutes(config))
+    first_start, first_hours = source.calls[0]
+    assert first_start + timedelta(hours=first_hours) < clock.now_utc() + timedelta(
+        hours=config.alerts.horizon_hours)
+    first_plan = dict(service._plan)
+    assert first_plan and max(a.due_utc for a in first_plan.values()) <= stretch_end
+    await asyncio.wait_for(service.wait_whole_plan(), WAIT_SECONDS)
+    assert len(source.calls) == 2 and clock.now_utc() == fakes.NIGHT_START_UTC
+    start, hours = source.calls[1]
+    assert start + timedelta(hours=hours) >= clock.now_utc() + timedelta(hours=config.alerts.horizon_hours)
+    assert max(a.due_utc for a in service._plan.values()) > stretch_end
+    assert first_plan.keys() <= service._plan.keys()  # the stretch planned alike both times
+    await fakes.stop_service(service, task)
