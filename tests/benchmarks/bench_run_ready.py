@@ -151,11 +151,14 @@ def main() -> None:
     parser.add_argument("--targets", type=int, nargs="+", default=[10_000, 100_000])
     parser.add_argument("--previous", type=pathlib.Path, default=None,
                         help="a checkout of the previous approach (e.g. a git worktree of an older commit)")
+    parser.add_argument("--previous-label", default=None,
+                        help="what the previous checkout is (default: its git commit, when it is a checkout)")
     parser.add_argument("--limit", type=float, default=240.0, help="give up on one case after this long")
     args = parser.parse_args()
     print(f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())}; "
           f"{os.cpu_count()} cores; this checkout {_commit(ROOT)}"
-          + (f", previous {args.previous} at {_commit(args.previous)}" if args.previous else ""))
+          + (f", previous {args.previous} at {args.previous_label or _commit(args.previous)}"
+             if args.previous else ""))
     print(f"{'targets':>8} {'code':>8} {'READY=1 s':>10} {'status s':>9} {'CPU s':>7} {'peak MB':>8} "
           f"{'planned':>8} | {'whole s':>8} {'CPU s':>7} {'peak MB':>8} {'planned':>8}")
     for count in args.targets:
