@@ -91,6 +91,8 @@ LEDGER_KEEP_DAYS = 14
 # (every re-plan refreshes them; see Service._schedule). Critical repeats are planned as far
 # (repeat_stretch_minutes).
 SCHEDULE_MIN_MINUTES = 180.0
+# The Sun hold's altitudes for a whole plan are interpolated from a grid this fine (seconds).
+SUN_GRID_SECONDS = 15.0
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
 STOP_WAIT_SECONDS = 15.0
 
@@ -1250,19 +1252,38 @@ def _row_from_alert(alert: PlannedAlert) -> LedgerRow:
 
 
 def _sun_altitude_function(config: Config) -> Callable[[Sequence[datetime]], Sequence[float]] | None:
-    """The Sun's altitude at many instants in one call, for the planner's hold rule."""
+    """The Sun's altitude at many instants in one call, for the planner's hold rule.
+
+    More instants than a ``SUN_GRID_SECONDS`` grid over their span has points (a whole plan's
+    due times) are interpolated linearly from that grid: the exact evaluation (nutation and all,
+    per instant) of 30,000 due times took 40 MB and half a second. The grid's error is largest
+    near the horizon, where refraction bends the curve (about 1e-3 deg, a quarter of a second of
+    the Sun's motion; tests/service/test_sun_hold_grid.py). Fewer instants are computed exactly.
+    """
     if config.alerts.hold_while_sun_above_deg is None:
         return None
+    import numpy as np
+
     from siderod.astro.sunmoon import observe_sun
     from siderod.astro.timescales import instants_from_unix
     from siderod.plan.positions import observer_for
 
     observer = observer_for(config)
 
-    def sun_alt_deg(when_utc: Sequence[datetime]) -> Sequence[float]:
-        unix = [moment.timestamp() for moment in when_utc]
+    def exact(unix: Any) -> Any:
         instants = instants_from_unix(unix, dut1_seconds=config.time.dut1_seconds)
-        return observe_sun(instants, observer).alt_deg.tolist()
+        return observe_sun(instants, observer).alt_deg
+
+    def sun_alt_deg(when_utc: Sequence[datetime]) -> Sequence[float]:
+        unix = np.array([moment.timestamp() for moment in when_utc], dtype=float)
+        if unix.size == 0:
+            return []
+        first, last = float(unix.min()), float(unix.max())
+        points = int((last - first) // SUN_GRID_SECONDS) + 2
+        if unix.size <= points:
+            return np.asarray(exact(unix), dtype=float).tolist()
+        grid = first + SUN_GRID_SECONDS * np.arange(points)  # the last point is at or past `last`
+        return np.interp(unix, grid, np.asarray(exact(grid), dtype=float)).tolist()
 
     return sun_alt_deg
 
