@@ -135,10 +135,14 @@ def plan_alerts(
             candidates.setdefault(alert_key(event, lead), (event, lead, due_utc))
     held = _held_by_sun(candidates, rules.hold_while_sun_above_deg, sun_altitude_deg, held_kinds(rules))
     planned: dict[str, PlannedAlert] = {}
+    bodies: dict[int, str] = {}  # the body is the event's, whatever the lead: formatted once per event
     for key, (event, lead, due_utc) in candidates.items():
         if key in held:
             continue
-        title, body = format_alert(event, lead, config.site)
+        body = bodies.get(id(event))
+        if body is None:
+            body = bodies[id(event)] = format_alert(event, lead, config.site)[1]
+        title = format_title(event, lead)
         urgency = rules.urgency.get(event.kind, DEFAULT_URGENCY.get(event.kind, Urgency.NORMAL))
         planned[key] = PlannedAlert(
             key=key,
