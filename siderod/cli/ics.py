@@ -31,7 +31,8 @@ __all__ = ["LIBRARY_MAX_EVENTS", "calendar_for", "event_note", "event_texts", "w
 
 #: Up to this many events the calendar is built from library components (the reference writer).
 LIBRARY_MAX_EVENTS = 2000
-_BLOCK = 65536  # events per block of the streaming writer (bounds its memory: ~20 MB)
+_BLOCK = 16384  # events per block of the streaming writer: ~5 MB, reused block after block (bigger
+# blocks came back from the allocator as fresh pages each time: 100,000 page faults for 1e5 targets)
 # icalendar's content-line folding starts a new line before the octet that would make a line 75 long,
 # and a continuation line holds 74 octets after its leading space.
 _FOLD = 74
@@ -116,8 +117,13 @@ def write_ics(agenda, config, out, *, stamp_utc: datetime) -> None:
     moon_codes = [KIND_CODES[EventKind.MOONRISE], KIND_CODES[EventKind.MOONSET]]
     kinds = [k.value for k in KINDS]
     whos = list(table.names) + ["Sun", "Moon"]
-    escaped = [_escape(w) for w in whos]
-    uids = [_uid_safe(w).encode() for w in whos]
+    # One match for every name (one a line; no name may hold a line break itself), in the usual
+    # case that none needs escaping or a change for its UID.
+    joined = "\n".join(whos)
+    one_a_line = joined.count("\n") == len(whos) - 1
+    plain = [w.encode() for w in whos] if one_a_line else None
+    escaped = plain if plain and _PLAIN_TEXT_LINES.fullmatch(joined) else [_escape(w) for w in whos]
+    uids = plain if plain and _PLAIN_UID_LINES.fullmatch(joined) else [_uid_safe(w).encode() for w in whos]
     esc_who, esc_len = tc.text_table(escaped), np.array([len(b) for b in escaped])
     sources = tc.text_table(escaped[:len(table.names)] + [b""])  # a beam event's source; -1: none
     uid_who, uid_len = tc.text_table(uids), np.array([len(b) for b in uids])
@@ -237,6 +243,8 @@ def _escape(text: str) -> bytes:
 
 _PLAIN_UID = re.compile(r"[A-Za-z0-9_.-]*")
 _PLAIN_TEXT = re.compile(r"[A-Za-z0-9 _.:'()+/*#&!?=@<>\[\]{}|~%$-]*")
+_PLAIN_UID_LINES = re.compile(r"[A-Za-z0-9_.\n-]*")  # the same, for names one a line
+_PLAIN_TEXT_LINES = re.compile(r"[A-Za-z0-9 _.:'()+/*#&!?=@<>\[\]{}|~%$\n-]*")
 
 
 def _note_columns(table, sources=None) -> np.ndarray:

@@ -232,7 +232,22 @@ def drop_nul_bytes(columns: Sequence[np.ndarray]) -> bytearray:
     width = sum(p.shape[1] for p in parts)
     buffer = bytearray(rows * width)
     if rows and width:
-        np.concatenate(parts, axis=1, out=np.frombuffer(buffer, dtype=np.uint8).reshape(rows, width))
+        block = np.frombuffer(buffer, dtype=np.uint8).reshape(rows, width)
+        # The constant columns (views of one row, see constant()) go in as one template row copied
+        # to every row; then only the columns that vary are copied in, one by one.
+        template = np.zeros(width, dtype=np.uint8)
+        varying = []
+        at = 0
+        for part in parts:
+            w = part.shape[1]
+            if part.strides[0] == 0:
+                template[at:at + w] = part[0]
+            else:
+                varying.append((at, w, part))
+            at += w
+        block[:] = template
+        for at, w, part in varying:
+            block[:, at:at + w] = part
     return buffer.translate(None, b"\0")
 
 

@@ -18,11 +18,11 @@ START_UTC = datetime(2026, 12, 14, 12, tzinfo=UTC)  # the demo night
 AWKWARD_NAMES = ["Mira (ο Cet)", "A, B; C\\D", "Demo field " + "x" * 70, "Pair\\" + "y" * 55]
 
 
-def _config(tmp_path, site="Corrie Hill; test, site"):
+def _config(tmp_path, site="Corrie Hill; test, site", names=AWKWARD_NAMES):
     targets = "".join(f'[[target]]\nname = {name!r}\nra = "{2 + 3 * i}h"\ndec = {20 + 10 * i}\n\n'
                       .replace("'", '"').replace('"A, B; C\\D"', "'A, B; C\\D'").replace(
                           f'"Pair\\{"y" * 55}"', f"'Pair\\{'y' * 55}'")
-                      for i, name in enumerate(AWKWARD_NAMES))
+                      for i, name in enumerate(names))
     (tmp_path / "targets.toml").write_text(targets, encoding="utf-8")
     (tmp_path / "config.toml").write_text(
         f'[site]\nname = "{site}"\nlatitude = "+56 12 30"\nlongitude = "-3 41 15"\n'
@@ -33,7 +33,7 @@ def _config(tmp_path, site="Corrie Hill; test, site"):
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("source", ["demo", "awkward", "non-ASCII site"])
+@pytest.mark.parametrize("source", ["demo", "awkward", "non-ASCII site", "ASCII with a line break"])
 def test_streaming_writer_matches_the_library_byte_for_byte(source, tmp_path, monkeypatch):
     # Reference: icalendar's own Calendar/Event components, escaping and folding (calendar_for).
     # The non-ASCII site's LOCATION line is long enough to fold: a constant line the library
@@ -42,9 +42,11 @@ def test_streaming_writer_matches_the_library_byte_for_byte(source, tmp_path, mo
         config = load_config(None, {})
     elif source == "awkward":
         config = _config(tmp_path)
-    else:
+    elif source == "non-ASCII site":
         config = _config(tmp_path, site="Observatoire du Pic; tést, " + "é" * 40)
-    if source != "demo":
+    else:  # every name plain ASCII but one holding a line break, which must still be escaped
+        config = _config(tmp_path, names=["Plain", "Line\nbreak"])
+    if source in ("awkward", "non-ASCII site"):
         assert {t.name for t in config.targets} == set(AWKWARD_NAMES)
     agenda = compute_agenda(config, START_UTC, 48)
     reference = ics.calendar_for(agenda, config, stamp_utc=START_UTC)
