@@ -228,9 +228,10 @@ def _plain_csv(problems: Problems) -> tuple[Target, ...] | None:
 
 
 # The plain RA (decimal with an "h" or "d") and Dec (decimal, "d" optional) of :func:`_plain_angle`,
-# one per line.
-_PLAIN_RA = re.compile(r"(?:[+-]?\d+(?:\.\d*)?[hd]\n)*[+-]?\d+(?:\.\d*)?[hd]")
-_PLAIN_DEC = re.compile(r"(?:[+-]?\d+(?:\.\d*)?d?\n)*[+-]?\d+(?:\.\d*)?d?")
+# one per line. Possessive quantifiers (no backtracking: each part can only end one way) make the
+# match of 1e5 lines about twice as fast.
+_PLAIN_RA = re.compile(r"(?:[+-]?+\d++(?:\.\d*+)?+[hd]\n)*+[+-]?+\d++(?:\.\d*+)?+[hd]")
+_PLAIN_DEC = re.compile(r"(?:[+-]?+\d++(?:\.\d*+)?+d?+\n)*+[+-]?+\d++(?:\.\d*+)?+d?+")
 
 
 def _plain_degrees(texts: list[str], *, ra: bool) -> np.ndarray:
