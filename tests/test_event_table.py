@@ -41,6 +41,24 @@ def test_sorted_orders_by_time_then_kind_then_name():
     assert list(got) == expected
 
 
+def test_concat_sorted_is_concat_then_sorted_with_ties_across_parts():
+    t = 1_800_000_000.0
+    parts = [[_event(t, EventKind.RISE, "b"), _event(t + 2, EventKind.SET, "a")],
+             [_event(t, EventKind.RISE, "a"), _event(t - 1, EventKind.CULMINATION, "c")],
+             [_event(t, EventKind.SUNSET, None), _event(t + 2, EventKind.SET, "c")]]
+    tables = [EventTable.from_records(p) for p in parts]
+    names = ("a", "b", "c")
+    # from_records numbers names per table; put every part's targets on the one name list.
+    remapped = []
+    for table in tables:
+        index = np.array([names.index(n) for n in table.names] + [-1], dtype=np.int32)
+        columns = {f: getattr(table, f) for f in table.__dataclass_fields__ if f != "names"}
+        remapped.append(EventTable(**columns | {"target": index[table.target]}, names=names))
+    want = EventTable.concat(remapped, names).sorted().records()
+    assert EventTable.concat_sorted(remapped, names).records() == want
+    assert [e.target for e in want[:4]] == ["c", "a", "b", None]  # rise comes before sunset (enum order)
+
+
 @pytest.mark.parametrize("seed", range(5))
 def test_dark_spans_match_the_per_target_reference(seed):
     # Reference: siderod.astro.events.intervals_from_crossings and intersect_intervals, one target at

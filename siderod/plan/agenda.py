@@ -250,9 +250,8 @@ def compute_agenda(config: Config, start_utc: datetime, hours: float | None = No
         if pointing.beam_ha_deg is not None and pointing.beam_sources and beam_kinds:
             parts.append(_beam_events(config, observer, pointing, len(sky) + k, names, start_unix, end_unix,
                                       beam_kinds))
-    table = EventTable.concat(parts, names)
-    parts.clear()  # ~70 MB for 1e5 targets: freed before the sorted copy is made, not after
-    table = table.sorted()
+    table = EventTable.concat_sorted(parts, names)
+    parts.clear()
     return Agenda(start_utc=_utc(start_unix), end_utc=_utc(end_unix), table=table,
                   target_names=tuple(order_names), class_codes=codes, dark_target=dt, dark_begin_unix=db,
                   dark_end_unix=de, sky_codes=_sky_codes(config, chosen, frames))
