@@ -42,11 +42,11 @@ def run(args: argparse.Namespace) -> int:
     import sys
 
     from siderod.common.clock import SystemClock
-    from siderod.files.config import load_config
     from siderod.files.paths import resolve_paths
     from siderod.service.anomaly import linux_boot_seconds
     from siderod.service.control import ServiceAlreadyRunning
     from siderod.service.daemon import Service
+    from siderod.service.loading import ConfigLoad
 
     log = logging.getLogger("siderod.run")
     level = getattr(logging, str(args.log_level).upper())
@@ -59,16 +59,17 @@ def run(args: argparse.Namespace) -> int:
     clock = SystemClock()
     explicit = getattr(args, "config", None)
     service = Service(
+        # Reloads run in a child process (a big target file would hold this one's interpreter);
         # DUT1 from IERS tables is taken for the moment of loading, on the service's clock.
         # check_push: read and check every push URL and refuse secrets others can read.
-        lambda: load_config(explicit, dict(os.environ), at_unix=clock.now_utc().timestamp(),
-                            check_push=True),
+        ConfigLoad(explicit, dict(os.environ), check_push=True),
         clock,
         None,
         None,
         paths,
         env=env,
         boot_seconds=linux_boot_seconds(),
+        load_config_in_child=True,
     )
     with_view = not args.no_view and sys.stdout.isatty()
 

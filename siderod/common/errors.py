@@ -14,6 +14,7 @@ __all__ = [
     "SiderodError",
     "ConfigError",
     "ConfigErrors",
+    "ConfigLoadFailed",
     "ServiceNotRunning",
     "ControlError",
     "InternalError",
@@ -89,6 +90,11 @@ class ConfigErrors(SiderodError):
         count = len(self.errors)
         head = f"{count} problem{'s' if count != 1 else ''} in the configuration"
         super().__init__(head + ":\n" + "\n".join(f"  {e}" for e in self.errors))
+
+
+class ConfigLoadFailed(SiderodError):
+    """The service's loading of its configuration crashed, was stopped or took too long (a reload
+    then keeps the last good configuration); the message says which."""
 
 
 class LedgerUnusable(SiderodError):

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import asyncio
 import contextlib
+import gc
 import itertools
 import logging
 import os
@@ -65,6 +66,7 @@ from siderod.service.delivery import (
     channel_accepts,
 )
 from siderod.service.ledger import Ledger, LedgerRow, open_ledger
+from siderod.service.loading import LOAD_TIMEOUT_SECONDS
 from siderod.service.scheduling import Scheduler, SchedulerFactory
 
 __all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS", "repeat_stretch_minutes"]
@@ -127,6 +129,12 @@ class Service:
         clock_health_reader: returns ClockHealth; None uses ``siderod.service.clockhealth``.
         sun_altitude_deg: Sun altitude at a UTC instant for the hold rule; None computes it with
             ``siderod.plan.positions`` when that is available.
+        load_config_in_child: reload in a child process (``siderod.service.loading``), so that
+            parsing and checking a big file never holds this interpreter; ``config_loader`` must
+            then be picklable (``loading.ConfigLoad``) and take the instant (POSIX seconds, on
+            ``clock``) at which to look up DUT1. ``siderod run`` does this.
+        load_timeout_seconds: a reload in a child that takes longer is stopped (the last good
+            configuration stays).
     """
 
     def __init__(
@@ -148,6 +156,8 @@ class Service:
         clock_health_reader: Callable[[], ClockHealth] | None = None,
         sun_altitude_deg: Callable[[datetime], float] | None = None,
         retry_seconds: float = RETRY_SECONDS,
+        load_config_in_child: bool = False,
+        load_timeout_seconds: float = LOAD_TIMEOUT_SECONDS,
     ) -> None:
         if ledger_path is None and paths is None:
             raise ValueError("Service needs paths (from siderod.files.paths.resolve_paths) or ledger_path")
@@ -167,6 +177,8 @@ class Service:
         self._clock_health_reader = clock_health_reader
         self._sun_altitude_override = sun_altitude_deg
         self._retry_seconds = retry_seconds
+        self._load_in_child = load_config_in_child
+        self._load_timeout_seconds = load_timeout_seconds
 
         self.config: Config | None = None
         self.config_error = ""
@@ -213,7 +225,10 @@ class Service:
             Exception: anything unexpected from a supervised task, after a clean shutdown.
         """
         self.started_utc = self._clock.now_utc()
-        self.config = self._config_loader()  # invalid at start: raise, nothing else to fall back on
+        # Invalid at start: raise, nothing else to fall back on. Loaded here, in this process:
+        # nothing is answering yet.
+        self.config = (self._config_loader(self.started_utc.timestamp()) if self._load_in_child
+                       else self._config_loader())
         self._sun_altitude = self._sun_altitude_override or _sun_altitude_function(self.config)
         self._channels = self._build_channels(self.config)
         loop = asyncio.get_running_loop()
@@ -489,14 +504,17 @@ class Service:
             True if the new configuration is in use.
         """
         async with self._reload_lock:
-            return await self._reload(reason, always_announce=always_announce)
+            # The whole reload, the re-plan and its ledger write included, makes objects by the
+            # ten thousand: no collection pauses the service meanwhile (see _collections_paused).
+            with _collections_paused() if self._offload_planning else contextlib.nullcontext():
+                return await self._reload(reason, always_announce=always_announce)
 
     async def _reload(self, reason: str, *, always_announce: bool) -> bool:
         self._notify("RELOADING=1")
         try:
             # Off the loop: reading a big target file takes seconds, and meanwhile `status`,
             # the scheduler and the watchdog pings must keep going.
-            new_config = await self._off_loop(self._config_loader)
+            new_config = await self._load_config()
         except (SiderodError, OSError) as exc:
             text = str(exc)
             repeat = text == self.config_error
@@ -1096,11 +1114,23 @@ class Service:
 
         return await self._off_loop(plan)
 
+    async def _load_config(self) -> Config:
+        """The configuration loaded again: in a child process (see ``load_config_in_child``), or
+        off the loop on a worker thread. Raises what the loader raises (SiderodError, OSError)."""
+        if self._load_in_child:
+            from siderod.service.loading import load_in_child
+
+            with _collections_paused():  # unpickled on a thread: tens of thousands of objects
+                return await load_in_child(self._config_loader, self._clock.now_utc().timestamp(),
+                                           timeout_seconds=self._load_timeout_seconds)
+        return await self._off_loop(self._config_loader)
+
     async def _off_loop(self, work: Callable[[], Any]) -> Any:
         # A worker thread keeps the loop answering (status, alerts, watchdog) during slow work.
         # Tests under FakeClock run it inline so that simulated time cannot run on meanwhile.
         if self._offload_planning:
-            return await asyncio.to_thread(_yielding_the_lock_often, work)
+            with _collections_paused():
+                return await asyncio.to_thread(_yielding_the_lock_often, work)
         return work()
 
     @staticmethod
@@ -1320,3 +1350,39 @@ def _yielding_the_lock_often(work: Callable[[], Any]) -> Any:
 
 # The interpreter's own interval, read once: overlapping workers then restore the same value.
 _DEFAULT_SWITCH_SECONDS = sys.getswitchinterval()
+
+
+@contextlib.contextmanager
+def _collections_paused() -> Iterator[None]:
+    """No cyclic garbage collection while off-loop work makes many objects; the heap as it was
+    is left out of collections meanwhile.
+
+    A full collection walks every tracked object while holding the interpreter lock: with a
+    20,000-target configuration and a 50,000-alert plan in memory, each took 100-250 ms on a
+    loaded 2-core machine, and a re-plan or the unpickling of a reloaded configuration set off
+    several, so `status` and the watchdog waited that long (measured in
+    tests/service/test_reload_responsive.py). Reference counting frees almost everything anyway;
+    what the work leaves is moved to the oldest generation without a collection (freeze, then
+    unfreeze), and collections resume as usual when the last overlapping work ends.
+    """
+    global _PAUSED_WORKS, _COLLECTING_BEFORE
+    if _PAUSED_WORKS == 0:
+        _COLLECTING_BEFORE = gc.isenabled()
+        gc.freeze()  # what exists now is skipped by any collection until the work ends
+        gc.disable()
+    _PAUSED_WORKS += 1
+    try:
+        yield
+    finally:
+        _PAUSED_WORKS -= 1
+        if _PAUSED_WORKS == 0:
+            gc.freeze()
+            gc.unfreeze()  # everything back, in the oldest generation, uncollected
+            if _COLLECTING_BEFORE:
+                gc.enable()
+
+
+# Off-loop works running now (they may overlap: a re-plan during a reload's load), and whether
+# collections were on before the first of them.
+_PAUSED_WORKS = 0
+_COLLECTING_BEFORE = True

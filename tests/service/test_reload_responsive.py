@@ -1,8 +1,9 @@
 """A reload of a big target file never stops the service from answering (real process, real socket).
 
-The service is a real ``python -m siderod run`` on the wall clock with a 1,500-target file. While it
-reloads (SIGHUP), the test asks for ``status`` over the real control socket again and again and reads
-the sd_notify datagrams systemd would see: every answer and every watchdog ping must keep coming.
+The service is a real ``python -m siderod run`` on the wall clock with a big TOML target file. While
+it reloads (SIGHUP), the test asks for ``status`` over the real control socket again and again and
+reads the sd_notify datagrams systemd would see: the replies must keep the issue's 100 ms (issue 13
+item 5), and every watchdog ping must keep coming.
 """
 
 from __future__ import annotations
@@ -27,21 +28,31 @@ pytestmark = pytest.mark.slow
 
 REPO = Path(__file__).resolve().parents[2]
 DEMO_DIR = REPO / "siderod" / "demo"
-#: Targets in the big file: enough for a reload of about a second or more on this machine (1,500
-#: once silenced the service for seconds; since repeats are planned per stretch and the scheduler
-#: holds one job, 1,500 reload in under one).
+#: Targets with alerts: the re-plan's work, enough for a reload of a second or more on this
+#: machine (1,500 once silenced the service for seconds; since repeats are planned per stretch and
+#: the scheduler holds one job, 1,500 reload in under one).
 TARGET_COUNT = 5_000
-#: The promise: `status` answers within 100 ms during a reload. The machine running the tests is
-#: shared (2 cores, load average above 7 while this was written), so some replies wait for a CPU:
-#: 90 % of them must keep the promise (96-97 % did under that load), and none may come later
-#: than STALL_LIMIT_SECONDS, below the 3 s after which `siderod status` says no service is
-#: running (before the fix: the SIGHUP was lost, or replies took 2.3 s).
+#: More targets, with ``alerts = false``: each is parsed and checked in full, so loading takes a
+#: while (and loaded on a thread, the compiled parser alone held the interpreter ~0.1 s).
+SILENT_COUNT = 20_000
+#: The promise: `status` answers within 100 ms during any reload.
 STATUS_LIMIT_SECONDS = 0.1
-STATUS_SHARE_WITHIN_LIMIT = 0.9
-STALL_LIMIT_SECONDS = 2.0
-#: The watchdog pings every half of WATCHDOG_USEC (0.5 s); no gap between pings may exceed
-#: STALL_LIMIT_SECONDS (systemd's own limit is the whole WATCHDOG_USEC; the unit uses 30 s).
+#: The share of replies that must keep it: the 99th percentile. The machine running the tests is
+#: shared (2 cores, load average 2-4 while this was written), where a service that is ready to
+#: answer can still wait for a CPU; 1 % of replies may. Measured there with this file (load
+#: average 1-2.6, seven runs): p99 25-64 ms, slowest 32-276 ms (the slowest with no loop callback
+#: over 50 ms and no collection: the re-plan's thread holding the lock); before the configuration
+#: was loaded in a child process and collections were paused during reloads, p99 148-236 ms,
+#: 90.8-96.6 % within 100 ms (this test failed three times out of three).
+STATUS_SHARE_WITHIN_LIMIT = 0.99
+#: No reply, and no gap between watchdog pings beyond their interval, may take longer than this:
+#: a few of the scheduler's time slices on a busy machine, far below the 3 s after which
+#: `siderod status` says no service is running.
+STALL_LIMIT_SECONDS = 0.5
+#: The watchdog pings every half of WATCHDOG_USEC (0.5 s); systemd's own limit is the whole
+#: WATCHDOG_USEC (the unit uses 30 s).
 WATCHDOG_USEC = 1_000_000
+WATCHDOG_INTERVAL_SECONDS = WATCHDOG_USEC / 2e6
 #: Python start-up, loading 20,000 targets and the first 36-hour plan, on a shared 2-core machine.
 DEADLINE_SECONDS = 120.0
 POLL_SECONDS = 0.02
@@ -92,15 +103,17 @@ def _wait_until(predicate, what: str):
     return value
 
 
-def _big_target_file(path: Path, count: int) -> None:
-    # CSV, so that reading the file is quick and the test measures the service, not the parser.
+def _big_target_file(path: Path, count: int, silent: int) -> None:
+    """``count`` targets with alerts (the re-plan's work) and ``silent`` more with ``alerts = false``
+    (the loading's: each is parsed and checked in full, and costs the planner little)."""
     rng = random.Random(13)  # invented targets, spread over the sky
-    lines = ["name,ra,dec"]
-    for index in range(count):
+    tables = []
+    for index in range(count + silent):
         ra_s = rng.randrange(86400)
-        lines.append(f"T{index:05d},{ra_s // 3600:02d}:{ra_s % 3600 // 60:02d}:{ra_s % 60:02d},"
-                     f"{rng.uniform(-30, 89):+.4f}")
-    path.write_text("\n".join(lines) + "\n")
+        tables.append(f'[[target]]\nname = "T{index:05d}"\n'
+                      f'ra = "{ra_s // 3600:02d}:{ra_s % 3600 // 60:02d}:{ra_s % 60:02d}"\n'
+                      f"dec = {rng.uniform(-30, 89):+.4f}\n" + ("alerts = false\n" if index >= count else ""))
+    path.write_text("\n".join(tables))
 
 
 @pytest.fixture
@@ -115,10 +128,10 @@ def short_dir():
 def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
     config = short_dir / "config.toml"
     text = (DEMO_DIR / "demo.toml").read_text().replace("\ndesktop = true\n", "\ndesktop = false\n")
-    text = text.replace('files = ["demo-targets.toml"]', 'files = ["big.csv"]')
-    assert 'files = ["big.csv"]' in text
+    text = text.replace('files = ["demo-targets.toml"]', 'files = ["big.toml"]')
+    assert 'files = ["big.toml"]' in text
     config.write_text(text)
-    _big_target_file(short_dir / "big.csv", TARGET_COUNT)
+    _big_target_file(short_dir / "big.toml", TARGET_COUNT, SILENT_COUNT)
     env = dict(os.environ)
     for name in ("NOTIFY_SOCKET", "WATCHDOG_PID", "SIDEROD_CONFIG", "DBUS_SESSION_BUS_ADDRESS"):
         env.pop(name, None)
@@ -161,13 +174,15 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
         pings = [t for t, m in receiver.messages if "WATCHDOG=1" in m and t >= sent_mono]
         gaps = [b - a for a, b in zip([sent_mono, *pings], pings, strict=False)]
         within = sum(1 for seconds in latencies if seconds < STATUS_LIMIT_SECONDS) / len(latencies)
-        print(f"reload {reload_seconds:.2f} s; {len(latencies)} status replies, {within:.0%} within "
-              f"{STATUS_LIMIT_SECONDS * 1000:g} ms, slowest "
+        ordered = sorted(latencies)
+        p99 = ordered[min(len(ordered) - 1, int(STATUS_SHARE_WITHIN_LIMIT * len(ordered)))]
+        print(f"reload {reload_seconds:.2f} s; {len(latencies)} status replies, {within:.1%} within "
+              f"{STATUS_LIMIT_SECONDS * 1000:g} ms, p99 {p99 * 1000:.1f} ms, slowest "
               f"{max(latencies) * 1000:.1f} ms; watchdog gaps up to {max(gaps, default=0):.2f} s")
         assert reload_seconds > 1.0, "the reload was too quick to show anything; use more targets"
-        assert within >= STATUS_SHARE_WITHIN_LIMIT, sorted(latencies)[-10:]
-        assert max(latencies) < STALL_LIMIT_SECONDS, sorted(latencies)[-5:]
-        assert max(gaps, default=0) < STALL_LIMIT_SECONDS, gaps
+        assert within >= STATUS_SHARE_WITHIN_LIMIT, ordered[-10:]
+        assert max(latencies) < STALL_LIMIT_SECONDS, ordered[-5:]
+        assert max(gaps, default=0) < WATCHDOG_INTERVAL_SECONDS + STALL_LIMIT_SECONDS, gaps
         assert "configuration reloaded" in log_path.read_text()
     finally:
         process.send_signal(signal.SIGTERM)
