@@ -255,6 +255,9 @@ def _parse_text_deg(text: str, kind: str) -> float:
     if letters and compass in letters:
         body = body[:-1].rstrip()
         negative = compass in "SW"
+        if not body.lstrip("+-").strip():
+            raise AngleParseError(text, kind,
+                                  f'no angle before the compass letter (write it as "12 30 {compass}")')
         if body[:1] in "+-":
             sign = body[0]
             if sign == "-" and negative:

@@ -164,6 +164,14 @@ def test_a_sign_and_a_compass_letter_that_disagree_are_refused(text, kind):
     assert repr(text) in str(info.value)
 
 
+@pytest.mark.parametrize(("text", "kind"), [("N", "dec"), (" s ", "lat"), ("E", "lon"), ("W", "lon")])
+def test_a_compass_letter_without_an_angle_is_refused(text, kind):
+    # Found by tests/test_config_fuzz.py (a CSV Dec of "N"): the letter was taken off, and the empty
+    # rest was read as if it began with a sign, an IndexError instead of a message.
+    with pytest.raises(AngleParseError, match="no angle before the compass letter"):
+        parse_angle_deg(text, kind=kind)
+
+
 def test_compass_letters_that_agree_with_a_plus_sign_or_stand_alone():
     assert parse_angle_deg("+32 22 40 N", kind="lat") == pytest.approx(32 + 22 / 60 + 40 / 3600)
     assert parse_angle_deg("32 22 40 S", kind="lat") == pytest.approx(-(32 + 22 / 60 + 40 / 3600))
