@@ -69,7 +69,8 @@ from siderod.service.ledger import Ledger, LedgerRow, open_ledger
 from siderod.service.loading import LOAD_TIMEOUT_SECONDS
 from siderod.service.scheduling import Scheduler, SchedulerFactory
 
-__all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS", "repeat_stretch_minutes"]
+__all__ = ["Service", "AgendaSource", "LATE_MARK_SECONDS", "RETRY_SECONDS", "repeat_stretch_minutes",
+           "first_stretch_minutes"]
 
 log = logging.getLogger("siderod.service")
 
@@ -93,6 +94,10 @@ LEDGER_KEEP_DAYS = 14
 # (every re-plan refreshes them; see Service._schedule). Critical repeats are planned as far
 # (repeat_stretch_minutes).
 SCHEDULE_MIN_MINUTES = 180.0
+# The first plan at start covers this much (and at least two repeat periods): the whole plan
+# follows at once (33 s for 100,000 targets on a 2-core machine), so this is margin enough, and a
+# short first stretch is what makes the service ready within a second or two.
+FIRST_STRETCH_MINUTES = 30.0
 # The Sun hold's altitudes for a whole plan are interpolated from a grid this fine (seconds).
 SUN_GRID_SECONDS = 15.0
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
@@ -564,9 +569,9 @@ class Service:
     async def replan(self, reason: str, *, stretch_only: bool = False) -> None:
         """Sweep missed alerts, compute the agenda for the horizon and hand the open alerts out.
 
-        ``stretch_only`` (the first plan at start): plan only the alerts due within the stretch
-        (``repeat_stretch_minutes``), from an agenda just long enough to hold their events; the
-        ledger keeps what an earlier run planned after it until the next whole plan.
+        ``stretch_only`` (the first plan at start): plan only the alerts due within the first
+        stretch (``first_stretch_minutes``), from an agenda just long enough to hold their events;
+        the ledger keeps what an earlier run planned after it until the next whole plan.
         """
         assert self.config is not None and self._ledger is not None and self._scheduler is not None
         async with self._plan_lock:
@@ -587,16 +592,15 @@ class Service:
             # Early enough that an event whose repeats are still owed is in the agenda.
             lookback = grace + timedelta(minutes=repeat_lookback_minutes(config))
             start_utc = now_utc - lookback
-            stretch_minutes = repeat_stretch_minutes(config)
+            stretch_minutes = (first_stretch_minutes if stretch_only else repeat_stretch_minutes)(config)
             stretch_end_utc = now_utc + timedelta(minutes=stretch_minutes)
             ahead_hours = config.alerts.horizon_hours
             if stretch_only:  # the events of every alert due within the stretch, and no more
                 ahead_hours = min(ahead_hours, (stretch_minutes + _longest_lead_minutes(config)) / 60.0)
             hours = ahead_hours + lookback.total_seconds() / 3600.0
             self._mutes = self._ledger.mutes(now_utc)
-            planned, near_sun = await self._compute_plan(config, start_utc, hours, dict(self._mutes),
-                                                         now_utc, self._ledger.acknowledged())
-
+            planned, near_sun = await self._compute_plan(config, start_utc, hours, dict(self._mutes), now_utc,
+                                                         self._ledger.acknowledged(), stretch_end_utc)
             planned = self._mount.adjust(planned, config)  # the target in use
             # Only critical alerts insist: a repeat made less urgent by the target in use goes.
             planned = tuple(a for a in planned if a.repeat_number == 0 or a.urgency is Urgency.CRITICAL)
@@ -1087,7 +1091,7 @@ class Service:
 
     async def _compute_plan(
         self, config: Config, start_utc: datetime, hours: float, muted: Mapping[str, datetime | None],
-        now_utc: datetime, acknowledged: Any,
+        now_utc: datetime, acknowledged: Any, repeats_until_utc: datetime,
     ) -> tuple[tuple[PlannedAlert, ...], list[str]]:
         """The alerts planned from the agenda, in due order, and the targets held back for being
         near the Sun; computed off the loop when offloading."""
@@ -1106,8 +1110,8 @@ class Service:
             planned = plan_alerts(agenda, config, **common)
             # Repeats only for the stretch up to the next re-plan and a margin (the scheduler's
             # lookahead): each re-plan adds the next stretch (see repeat_stretch_minutes).
-            until_utc = now_utc + timedelta(minutes=repeat_stretch_minutes(config))
-            planned += plan_repeats(agenda, config, acknowledged=acknowledged, until_utc=until_utc, **common)
+            planned += plan_repeats(agenda, config, acknowledged=acknowledged, until_utc=repeats_until_utc,
+                                    **common)
             near_sun = near_sun_targets(agenda, config.alerts)
             # Due order (then key): snapshot(), replan() and _schedule() take prefixes of it.
             return tuple(sorted(planned, key=lambda a: (a.due_utc, a.key))), near_sun
@@ -1204,10 +1208,17 @@ def repeat_stretch_minutes(config: Config) -> float:
     return max(2.0 * rules.replan_minutes, SCHEDULE_MIN_MINUTES, 2.0 * rules.repeat_minutes)
 
 
+def first_stretch_minutes(config: Config) -> float:
+    """How far the first plan at start reaches: ``FIRST_STRETCH_MINUTES``, at least two repeat
+    periods, at most the usual stretch (see ``Service.replan(stretch_only=True)``)."""
+    return min(repeat_stretch_minutes(config),
+               max(FIRST_STRETCH_MINUTES, 2.0 * config.alerts.repeat_minutes))
+
+
 def config_needs_a_first_stretch(config: Config) -> bool:
     """True when the horizon reaches past the first stretch: the service then makes its first
     plan for the stretch alone (ready sooner) and the whole plan right after READY=1."""
-    stretch_hours = (repeat_stretch_minutes(config) + _longest_lead_minutes(config)) / 60.0
+    stretch_hours = (first_stretch_minutes(config) + _longest_lead_minutes(config)) / 60.0
     return config.alerts.horizon_hours > stretch_hours
 
 

@@ -150,16 +150,17 @@ async def test_the_first_plan_is_the_first_stretch_and_the_whole_horizon_follows
     # Ready soon on a big target list: the plan made before READY=1 covers what the scheduler
     # needs (the stretch, and the events whose alerts fall in it); the whole horizon is planned
     # right after, before any time passes.
-    from siderod.service.daemon import repeat_stretch_minutes
+    from siderod.service.daemon import first_stretch_minutes, repeat_stretch_minutes
 
     clock = FakeClock(fakes.NIGHT_START_UTC)
     config = _config()
+    assert first_stretch_minutes(config) < repeat_stretch_minutes(config)
     source = fakes.FixedAgendaSource(fakes.synthetic_night())
     service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
     service._agenda_source = source
     task = asyncio.get_running_loop().create_task(service.run())
     await fakes.wait_ready(service, task)
-    stretch_end = clock.now_utc() + timedelta(minutes=repeat_stretch_minutes(config))
+    stretch_end = clock.now_utc() + timedelta(minutes=first_stretch_minutes(config))
     first_start, first_hours = source.calls[0]
     assert first_start + timedelta(hours=first_hours) < clock.now_utc() + timedelta(
         hours=config.alerts.horizon_hours)
