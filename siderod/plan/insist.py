@@ -47,6 +47,7 @@ __all__ = [
     "event_id",
     "repeat_times",
     "format_repeat",
+    "format_repeat_title",
 ]
 
 #: A hard cap on the repeats of one event, whatever the settings: a stuck acknowledgement path
@@ -121,7 +122,12 @@ def repeat_times(
 
 def format_repeat(title: str, body: str, number: int, repeat_minutes: float) -> tuple[str, str]:
     """Title and body of the ``number``-th repeat (1-based) of an alert with ``title`` and ``body``."""
-    title = f"{title} (repeat {number})"
+    title = format_repeat_title(title, number)
     body = (f"{body}\nRepeats every {repeat_minutes:g} min until acknowledged: `siderod ack`, the "
             "board's A key, or this notification's Acknowledge button.")
     return title, body
+
+
+def format_repeat_title(title: str, number: int) -> str:
+    """The title of the ``number``-th repeat (1-based) of an alert titled ``title``."""
+    return f"{title} (repeat {number})"

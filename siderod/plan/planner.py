@@ -32,6 +32,7 @@ __all__ = [
     "alert_key",
     "parse_alert_key",
     "format_alert",
+    "alert_body",
     "format_title",
     "format_missed_summary",
     "DEFAULT_URGENCY",
@@ -95,6 +96,7 @@ def plan_alerts(
     muted: Mapping[str, datetime | None],
     now_utc: datetime,
     sun_altitude_deg: Callable[[Sequence[datetime]], Sequence[float]] | None = None,
+    lazy_bodies: bool = False,
 ) -> tuple[PlannedAlert, ...]:
     """Turn an agenda into the alerts to give, sorted by due time (then key).
 
@@ -109,6 +111,8 @@ def plan_alerts(
         sun_altitude_deg: the Sun's altitudes (degrees) at a sequence of aware UTC instants, in
             one vectorised call. Needed only when ``alerts.hold_while_sun_above_deg`` is set; if
             None the hold is not applied.
+        lazy_bodies: leave each ``body`` empty, to be made by :func:`alert_body` when the alert
+            is given or shown (the service: most of a big plan is never shown).
 
     Returns:
         PlannedAlert records with stable keys, sorted by ``due_utc`` then ``key``. Duplicate
@@ -139,7 +143,7 @@ def plan_alerts(
     for key, (event, lead, due_utc) in candidates.items():
         if key in held:
             continue
-        body = bodies.get(id(event))
+        body = "" if lazy_bodies else bodies.get(id(event))
         if body is None:
             body = bodies[id(event)] = format_alert(event, lead, config.site)[1]
         title = format_title(event, lead)
@@ -165,6 +169,7 @@ def plan_repeats(
     acknowledged: Collection[str] = frozenset(),
     sun_altitude_deg: Callable[[Sequence[datetime]], Sequence[float]] | None = None,
     until_utc: datetime | None = None,
+    lazy_bodies: bool = False,
 ) -> tuple[PlannedAlert, ...]:
     """The repeats of every unacknowledged critical event in the agenda (see ``plan.insist``).
 
@@ -175,6 +180,7 @@ def plan_repeats(
         until_utc: leave out repeats due after this (aware UTC): the service plans repeats only
             up to the end of its current stretch, and each re-plan adds the next one (a repeat
             keeps its key and number whichever plan makes it). None: the whole series.
+        lazy_bodies: as for :func:`plan_alerts`.
 
     Returns:
         One PlannedAlert per repeat, its own key made from the event and the repeat's lead
@@ -182,7 +188,7 @@ def plan_repeats(
         is the first tracking-limit alert (or, without one, the limit itself) of the same target
         at or after the flip.
     """
-    from siderod.plan.insist import event_id, format_repeat, repeat_times
+    from siderod.plan.insist import event_id, format_repeat, format_repeat_title, repeat_times
 
     rules = config.alerts
     if rules.repeat_minutes <= 0:
@@ -231,11 +237,14 @@ def plan_repeats(
     for key, (event, lead, due_utc, number) in candidates.items():
         if key in held:
             continue
-        body = bodies.get(id(event))
-        if body is None:
-            body = bodies[id(event)] = format_alert(event, 0.0, config.site)[1]
         title = format_title(event, max(lead, 0.0))
-        title, body = format_repeat(title, body, number, rules.repeat_minutes)
+        if lazy_bodies:
+            title, body = format_repeat_title(title, number), ""
+        else:
+            body = bodies.get(id(event))
+            if body is None:
+                body = bodies[id(event)] = format_alert(event, 0.0, config.site)[1]
+            title, body = format_repeat(title, body, number, rules.repeat_minutes)
         repeats.append(PlannedAlert(key=key, event=event, lead_minutes=float(lead), due_utc=due_utc,
                                     urgency=Urgency.CRITICAL, title=title, body=body, repeat_number=number))
     return tuple(sorted(repeats, key=lambda a: (a.due_utc, a.key)))
@@ -389,6 +398,19 @@ def format_alert(event: Event, lead_minutes: float, site: Site) -> tuple[str, st
         lines.append(f"Caution: {event.sun_separation_deg:.0f}° from the Sun. Never point unfiltered "
                      "optics at or near the Sun.")
     return title, "\n".join(lines)
+
+
+def alert_body(alert: PlannedAlert, config: Config) -> str:
+    """The notification body of a planned alert: its own, or made now if it was planned with
+    ``lazy_bodies`` (the same text the planner would have made)."""
+    if alert.body:
+        return alert.body
+    body = format_alert(alert.event, max(alert.lead_minutes, 0.0), config.site)[1]
+    if alert.repeat_number:
+        from siderod.plan.insist import format_repeat
+
+        body = format_repeat("", body, alert.repeat_number, config.alerts.repeat_minutes)[1]
+    return body
 
 
 def format_title(event: Event, lead_minutes: float) -> str:

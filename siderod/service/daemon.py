@@ -48,6 +48,7 @@ from siderod.common.model import (
 from siderod.plan.insist import event_id
 from siderod.plan.planner import (
     SKY_TARGET_NAME,
+    alert_body,
     format_missed_summary,
     near_sun_targets,
     plan_alerts,
@@ -391,7 +392,8 @@ class Service:
         # The plan dict is in due order (see _compute_plan) and only loses entries, so its first
         # items are the next alerts: no sort of a 100,000-alert plan on every status.
         ahead = itertools.dropwhile(lambda a: a.due_utc < now_utc, self._plan.values())
-        upcoming = list(itertools.islice(_first_repeat_only(ahead), SNAPSHOT_ALERTS))
+        upcoming = [replace(a, body=alert_body(a, config))
+                    for a in itertools.islice(_first_repeat_only(ahead), SNAPSHOT_ALERTS)]
         try:
             counts = self._ledger.counts()
             recent = self._ledger.recent_deliveries(SNAPSHOT_ALERTS)
@@ -674,6 +676,7 @@ class Service:
             self._write("mark missed", lambda: self._ledger.mark_missed(key, now_utc))
             self._note_missed(alert.title, alert.due_utc)
             return
+        alert = replace(alert, body=alert_body(alert, self.config))
         message = _message_from_row(_row_from_alert(alert))
         # A channel with a filter (a push destination's urgency and kinds) owes only what it takes.
         names = [name for name, worker in self._workers.items() if channel_accepts(worker.channel, message)]
@@ -681,7 +684,7 @@ class Service:
         if alert.repeat_number:  # no planned row (see _write_plan): written and claimed at once
             claimed = self._write("claim", lambda: ledger.record_claim(alert, now_utc, names))
         else:
-            claimed = self._write("claim", lambda: ledger.claim(key, now_utc, names),
+            claimed = self._write("claim", lambda: ledger.claim(key, now_utc, names, body=alert.body),
                                   replay=lambda: ledger.record_claim(alert, now_utc, names))
         if claimed is None:  # the ledger cannot be written: deliver from memory, write it later
             self._claimed_unwritten.add(key)
@@ -1106,7 +1109,9 @@ class Service:
 
         def plan() -> tuple[tuple[PlannedAlert, ...], list[str]]:
             agenda = source(config, start_utc, hours)
-            common = {"muted": muted, "now_utc": now_utc, "sun_altitude_deg": sun_altitude}
+            # Bodies are made when an alert is given or shown (alert_body): most are never shown.
+            common = {"muted": muted, "now_utc": now_utc, "sun_altitude_deg": sun_altitude,
+                      "lazy_bodies": True}
             planned = plan_alerts(agenda, config, **common)
             # Repeats only for the stretch up to the next re-plan and a margin (the scheduler's
             # lookahead): each re-plan adds the next stretch (see repeat_stretch_minutes).

@@ -126,7 +126,7 @@ class Ledger:
         """
         with self._transaction():
             self._insert_planned(alert, now_utc, ignore=True)
-            return self.claim(alert.key, now_utc, channels)
+            return self.claim(alert.key, now_utc, channels, body=alert.body or None)
 
     def _insert_planned(self, alert: PlannedAlert, now_utc: datetime, *, ignore: bool = False) -> None:
         sql = _INSERT_PLANNED_SQL.replace("INSERT", "INSERT OR IGNORE", 1) if ignore else _INSERT_PLANNED_SQL
@@ -201,16 +201,20 @@ class Ledger:
         return rows
 
     # -- delivering ------------------------------------------------------------------------
-    def claim(self, key: str, now_utc: datetime, channels: Iterable[str] = ()) -> bool:
+    def claim(self, key: str, now_utc: datetime, channels: Iterable[str] = (), *,
+              body: str | None = None) -> bool:
         """Atomically move a planned alert to ``sending`` and make each channel owe it.
 
         True for exactly one caller, ever; only that caller's ``channels`` owe the alert.
+        ``body``: the alert's body, written now (a plan's rows may be written without one, and a
+        restart resends what the row holds).
         """
         now_unix = now_utc.timestamp()
         with self._transaction(nested_ok=True):
             cursor = self._db.execute(
-                "UPDATE alerts SET state = 'sending', updated_unix = ? WHERE key = ? AND state = 'planned'",
-                (now_unix, key),
+                "UPDATE alerts SET state = 'sending', updated_unix = ?, body = coalesce(?, body)"
+                " WHERE key = ? AND state = 'planned'",
+                (now_unix, body, key),
             )
             if cursor.rowcount != 1:
                 return False
