@@ -96,7 +96,7 @@ LEDGER_KEEP_DAYS = 14
 # (repeat_stretch_minutes).
 SCHEDULE_MIN_MINUTES = 180.0
 # The first plan at start covers this much (and at least two repeat periods): the whole plan
-# follows at once (33 s for 100,000 targets on a 2-core machine), so this is margin enough, and a
+# follows at once (20-35 s for 100,000 targets on a 2-core machine), so this is margin enough, and a
 # short first stretch is what makes the service ready within a second or two.
 FIRST_STRETCH_MINUTES = 30.0
 # The Sun hold's altitudes for a whole plan are interpolated from a grid this fine (seconds).
