@@ -36,7 +36,9 @@ def register(subparsers: argparse._SubParsersAction) -> None:
                         help="only this event kind (repeatable), e.g. culmination, flip-due, "
                         "astronomical-dusk")
     parser.add_argument("--json", action="store_true", help="print one JSON object (fields in the README)")
-    parser.add_argument("--ics", metavar="FILE", help="also write the events as an iCalendar (RFC 5545) file")
+    parser.add_argument("--ics", metavar="FILE",
+                        help='also write the events as an iCalendar (RFC 5545) file; "-" writes only the '
+                        "calendar, to standard output")
     parser.set_defaults(func=run)
 
 
@@ -67,6 +69,10 @@ def run(args: argparse.Namespace) -> int:
         print(f"siderod agenda: --hours: at most {MAX_HOURS:g} hours (10 days), the same limit as "
               f"[events] window_hours; got {args.hours:g}. For a longer span, run one window after "
               "another with --from.", file=sys.stderr)
+        return _EXIT_USAGE
+    if args.ics == "-" and args.json:
+        print("siderod agenda: --ics - and --json both write to standard output; choose one, or give "
+              "--ics a file name", file=sys.stderr)
         return _EXIT_USAGE
     kinds = None
     if args.kind:
@@ -100,6 +106,13 @@ def run(args: argparse.Namespace) -> int:
         print(f"siderod agenda: {exc}", file=sys.stderr)
         return 1
 
+    if args.ics == "-":  # the calendar alone, e.g. to pipe it on
+        from siderod.cli.ics import write_ics
+
+        sys.stdout.flush()
+        write_ics(agenda, config, sys.stdout.buffer, stamp_utc=start_utc)
+        sys.stdout.buffer.flush()
+        return 0
     if args.ics:
         from siderod.cli.ics import write_ics
 

@@ -50,6 +50,20 @@ def test_ics_parses_back_with_the_icalendar_library(tmp_path, capsys):
     assert b"\r\n" in raw and all(len(line) <= 75 for line in raw.split(b"\r\n"))
 
 
+def test_ics_dash_writes_only_the_calendar_to_standard_output(capsysbinary):
+    # Reference: the `icalendar` package reads it back; no table row is mixed into it.
+    assert main(["agenda", "--from", DEMO_FROM, "--hours", "12", "--ics", "-"]) == 0
+    out = capsysbinary.readouterr().out
+    assert out.startswith(b"BEGIN:VCALENDAR\r\n") and out.endswith(b"END:VCALENDAR\r\n")
+    calendar = icalendar.Calendar.from_ical(out)
+    assert [c for c in calendar.walk() if c.name == "VEVENT"]
+
+
+def test_ics_dash_with_json_is_a_usage_error(capsys):
+    assert main(["agenda", "--from", DEMO_FROM, "--ics", "-", "--json"]) == 2
+    assert "--ics -" in capsys.readouterr().err
+
+
 def test_table_shows_local_time_across_the_dst_change(capsys):
     # Europe/London leaves BST at 2026-10-25 01:00 UTC: the table shows both BST and GMT times.
     assert main(["agenda", "--from", "2026-10-24T12:00:00Z", "--hours", "24", "--kind", "culmination"]) == 0
