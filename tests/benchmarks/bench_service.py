@@ -4,7 +4,7 @@
 
 1. Idle: a child process runs the real service (SystemClock, APScheduler, the real agenda over the
    configured horizon, log channel, control socket) for the demo site with N synthetic targets.
-   After its first plan the child is left alone for --idle-seconds; CPU is the child's utime+stime
+   After its whole first plan the child is left alone for --idle-seconds; CPU is the child's utime+stime
    over that span (from /proc), RSS is VmRSS at the end.
 2. Latency, real clock: 60 alerts due 0.25 s apart through the APScheduler adapter and the whole
    delivery path (ledger claim, log channel, ledger writes); due -> channel call, wall clock.
@@ -63,6 +63,9 @@ def child(count: int) -> None:
     async def main():
         task = asyncio.create_task(service.run(install_signal_handlers=True))
         await service.wait_ready()
+        # READY=1 comes after the first stretch's plan; the whole horizon is planned right after,
+        # and that is start-up work, not idling.
+        await service.wait_whole_plan()
         print(f"ready planned={len(service._plan)}", flush=True)
         await task
 
