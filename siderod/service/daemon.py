@@ -511,10 +511,7 @@ class Service:
             True if the new configuration is in use.
         """
         async with self._reload_lock:
-            # The whole reload, the re-plan and its ledger write included, makes objects by the
-            # ten thousand: no collection pauses the service meanwhile (see _collections_paused).
-            with _collections_paused() if self._offload_planning else contextlib.nullcontext():
-                return await self._reload(reason, always_announce=always_announce)
+            return await self._reload(reason, always_announce=always_announce)
 
     async def _reload(self, reason: str, *, always_announce: bool) -> bool:
         self._notify("RELOADING=1")
@@ -537,6 +534,13 @@ class Service:
                 )
             self._notify("READY=1\n" + self._status_line())
             return False
+        # Swapping in and re-planning, the ledger write included, makes objects by the ten
+        # thousand: no collection pauses the service meanwhile (see _collections_paused). The
+        # wait for the child above runs with collections on: it may last minutes if a load hangs.
+        with _collections_paused() if self._offload_planning else contextlib.nullcontext():
+            return await self._swap_in(new_config, reason)
+
+    async def _swap_in(self, new_config: Config, reason: str) -> bool:
         old_config, self.config = self.config, new_config
         self.config_error = ""
         self._file_stamps = self._stat_files()
@@ -1129,9 +1133,10 @@ class Service:
         if self._load_in_child:
             from siderod.service.loading import load_in_child
 
-            with _collections_paused():  # unpickled on a thread: tens of thousands of objects
-                return await load_in_child(self._config_loader, self._clock.now_utc().timestamp(),
-                                           timeout_seconds=self._load_timeout_seconds)
+            # The result is unpickled on a thread, tens of thousands of objects: no collections then.
+            return await load_in_child(self._config_loader, self._clock.now_utc().timestamp(),
+                                       timeout_seconds=self._load_timeout_seconds,
+                                       unpickling=_collections_paused)
         return await self._off_loop(self._config_loader)
 
     async def _off_loop(self, work: Callable[[], Any]) -> Any:

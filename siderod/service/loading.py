@@ -21,7 +21,8 @@ import os
 import pickle
 import sys
 import traceback
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
+from contextlib import AbstractContextManager
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -66,13 +67,17 @@ class ConfigLoad:
 
 
 async def load_in_child(load: Any, at_unix: float | None, *,
-                        timeout_seconds: float = LOAD_TIMEOUT_SECONDS) -> Config:
+                        timeout_seconds: float = LOAD_TIMEOUT_SECONDS,
+                        unpickling: Callable[[], AbstractContextManager[Any]] = contextlib.nullcontext,
+                        ) -> Config:
     """Run ``load(at_unix)`` in a fresh child interpreter and return its Config.
 
     Args:
         load: a picklable callable (module level, such as :class:`ConfigLoad`) returning a Config.
         at_unix: passed to ``load``.
         timeout_seconds: monotonic seconds before the child is killed.
+        unpickling: a context manager factory entered while the result is unpickled (on a worker
+            thread); the service pauses garbage collection with it.
 
     Raises:
         SiderodError: the configuration was refused (the message is the loader's own, so every
@@ -97,7 +102,8 @@ async def load_in_child(load: Any, at_unix: float | None, *,
     if not out:
         raise ConfigLoadFailed(f"the process loading the configuration stopped (exit code "
                                f"{process.returncode}) before it gave a result")
-    outcome, value = await asyncio.to_thread(pickle.loads, out)
+    with unpickling():
+        outcome, value = await asyncio.to_thread(pickle.loads, out)
     if outcome == "loaded":
         return value
     if outcome == "refused":

@@ -4,11 +4,20 @@ item 5: full collections held the interpreter lock for 100-250 ms during each re
 from __future__ import annotations
 
 import asyncio
+import contextlib
 import gc
+import os
+import time
 
+import pytest
 from helpers import service_fakes as fakes
+from helpers.loaders import FailingInChildLoad
 
 from siderod.common.clock import FakeClock
+
+#: A child interpreter starts and imports siderod in well under a second; this bounds the wait on a
+#: loaded shared 2-core machine.
+CHILD_WAIT_SECONDS = 60.0
 
 
 def _service(tmp_path):
@@ -41,3 +50,28 @@ async def test_overlapping_works_resume_collections_only_after_the_last(tmp_path
     release.set()
     assert not await first
     assert gc.isenabled() and gc.get_freeze_count() == 0
+
+
+@pytest.mark.slow  # starts a Python interpreter
+async def test_collections_stay_on_while_a_reload_waits_for_its_child(tmp_path):
+    # A hung load (a file on a dead network share) may keep the reload waiting for minutes: the
+    # service must not go without collections that long.
+    from siderod.service.daemon import Service
+
+    config_file = tmp_path / "config.toml"
+    config_file.write_text('targets = ["NGC 1001"]\n')
+    pid_file = tmp_path / "child.pid"
+    service = Service(FailingInChildLoad(str(config_file), str(pid_file), None, os.getpid()),
+                      FakeClock(fakes.NIGHT_START_UTC), ledger_path=tmp_path / "ledger.sqlite3",
+                      control=False, env={}, load_config_in_child=True)
+    load = asyncio.create_task(service._load_config())
+    end = time.monotonic() + CHILD_WAIT_SECONDS
+    while not (pid_file.exists() and pid_file.read_text()):
+        assert time.monotonic() < end and not load.done(), "the child never started"
+        await asyncio.sleep(0.02)
+    assert gc.isenabled() and gc.get_freeze_count() == 0
+    load.cancel()
+    with contextlib.suppress(asyncio.CancelledError):
+        await load
+    with pytest.raises(ProcessLookupError):
+        os.kill(int(pid_file.read_text()), 0)  # and cancelling the load ended its child
