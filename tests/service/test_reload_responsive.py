@@ -53,6 +53,16 @@ STALL_LIMIT_SECONDS = 0.5
 #: WATCHDOG_USEC (the unit uses 30 s).
 WATCHDOG_USEC = 1_000_000
 WATCHDOG_INTERVAL_SECONDS = WATCHDOG_USEC / 2e6
+#: Other processes' runnable tasks (mean over the reload: the machine's running count, from
+#: /proc/loadavg, less this test's and the service's own) above which the 2-core machine counts as
+#: oversubscribed. Then the service, whose loop shares the interpreter lock with its planning
+#: thread, waits for CPUs it cannot get (two CPU-bound benchmarks beside it gave 97 % within
+#: 100 ms and 0.5-0.7 s stalls, with or without this item's changes), so only the bounds the test
+#: had before are asked: OVERSUBSCRIBED_SHARE within 100 ms, none beyond OVERSUBSCRIBED_STALL_SECONDS
+#: (a blocked loop or a lost SIGHUP still fails). CI runs the suite alone on its machine.
+OTHERS_RUNNABLE_LIMIT = 0.5
+OVERSUBSCRIBED_SHARE = 0.9
+OVERSUBSCRIBED_STALL_SECONDS = 2.0
 #: Python start-up, loading 20,000 targets and the first 36-hour plan, on a shared 2-core machine.
 DEADLINE_SECONDS = 120.0
 POLL_SECONDS = 0.02
@@ -116,6 +126,37 @@ def _big_target_file(path: Path, count: int, silent: int) -> None:
     path.write_text("\n".join(tables))
 
 
+def _others_running(service_pid: int) -> int:
+    """Runnable tasks on the machine now that belong neither to this test nor to the service and
+    its children (each process counted by its threads in state R; /proc/loadavg counts the same)."""
+    with open("/proc/loadavg") as fileobj:
+        running = int(fileobj.read().split()[3].partition("/")[0])
+    ours = 0
+    pids = {os.getpid(), service_pid}
+    for entry in os.listdir("/proc"):
+        if entry.isdigit():
+            try:
+                with open(f"/proc/{entry}/stat") as fileobj:
+                    fields = fileobj.read().rpartition(")")[2].split()
+            except OSError:
+                continue
+            if int(fields[1]) == service_pid:  # the service's reload child
+                pids.add(int(entry))
+    for pid in pids:
+        try:
+            tasks = os.listdir(f"/proc/{pid}/task")
+        except OSError:
+            continue
+        for task in tasks:
+            try:
+                with open(f"/proc/{pid}/task/{task}/stat") as fileobj:
+                    state = fileobj.read().rpartition(")")[2].split()[0]
+            except OSError:
+                continue
+            ours += state == "R"
+    return max(0, running - ours)
+
+
 @pytest.fixture
 def short_dir():
     directory = Path(tempfile.mkdtemp(prefix="sdrl", dir="/tmp"))  # socket paths are short
@@ -157,6 +198,7 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
         sent_mono = time.monotonic()
         process.send_signal(signal.SIGHUP)
         latencies: list[float] = []
+        others: list[int] = []
 
         def reload_done() -> bool:
             later = [m for _, m in receiver.messages[before:]]
@@ -168,6 +210,7 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
             asked = time.monotonic()
             request_once(socket_path, {"op": "status"}, timeout_seconds=5.0)
             latencies.append(time.monotonic() - asked)
+            others.append(_others_running(process.pid))
             assert asked - sent_mono < DEADLINE_SECONDS, "the reload never finished (a lost SIGHUP?)"
             time.sleep(POLL_SECONDS)
         reload_seconds = time.monotonic() - sent_mono
@@ -176,13 +219,18 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
         within = sum(1 for seconds in latencies if seconds < STATUS_LIMIT_SECONDS) / len(latencies)
         ordered = sorted(latencies)
         p99 = ordered[min(len(ordered) - 1, int(STATUS_SHARE_WITHIN_LIMIT * len(ordered)))]
+        busy = sum(others) / len(others)
         print(f"reload {reload_seconds:.2f} s; {len(latencies)} status replies, {within:.1%} within "
               f"{STATUS_LIMIT_SECONDS * 1000:g} ms, p99 {p99 * 1000:.1f} ms, slowest "
-              f"{max(latencies) * 1000:.1f} ms; watchdog gaps up to {max(gaps, default=0):.2f} s")
+              f"{max(latencies) * 1000:.1f} ms; watchdog gaps up to {max(gaps, default=0):.2f} s; "
+              f"other processes' runnable tasks {busy:.2f} on average")
         assert reload_seconds > 1.0, "the reload was too quick to show anything; use more targets"
-        assert within >= STATUS_SHARE_WITHIN_LIMIT, ordered[-10:]
-        assert max(latencies) < STALL_LIMIT_SECONDS, ordered[-5:]
-        assert max(gaps, default=0) < WATCHDOG_INTERVAL_SECONDS + STALL_LIMIT_SECONDS, gaps
+        share, stall = STATUS_SHARE_WITHIN_LIMIT, STALL_LIMIT_SECONDS
+        if busy > OTHERS_RUNNABLE_LIMIT:
+            share, stall = OVERSUBSCRIBED_SHARE, OVERSUBSCRIBED_STALL_SECONDS
+        assert within >= share, ordered[-10:]
+        assert max(latencies) < stall, ordered[-5:]
+        assert max(gaps, default=0) < WATCHDOG_INTERVAL_SECONDS + stall, gaps
         assert "configuration reloaded" in log_path.read_text()
     finally:
         process.send_signal(signal.SIGTERM)
