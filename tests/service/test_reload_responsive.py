@@ -53,14 +53,17 @@ STALL_LIMIT_SECONDS = 0.5
 #: WATCHDOG_USEC (the unit uses 30 s).
 WATCHDOG_USEC = 1_000_000
 WATCHDOG_INTERVAL_SECONDS = WATCHDOG_USEC / 2e6
-#: Other processes' runnable tasks (mean over the reload: the machine's running count, from
-#: /proc/loadavg, less this test's and the service's own) above which the 2-core machine counts as
-#: oversubscribed. Then the service, whose loop shares the interpreter lock with its planning
-#: thread, waits for CPUs it cannot get (two CPU-bound benchmarks beside it gave 97 % within
-#: 100 ms and 0.5-0.7 s stalls, with or without this item's changes), so only the bounds the test
-#: had before are asked: OVERSUBSCRIBED_SHARE within 100 ms, none beyond OVERSUBSCRIBED_STALL_SECONDS
-#: (a blocked loop or a lost SIGHUP still fails). CI runs the suite alone on its machine.
-OTHERS_RUNNABLE_LIMIT = 0.5
+#: CPUs that other processes used during the reload (on average: the machine's busy time from
+#: /proc/stat less the CPU time of this test and of the service and its children) above which the
+#: 2-core machine counts as oversubscribed: the service (a loop, and a planning thread that shares
+#: the interpreter lock with it) and this test then get less than 3/4 of a CPU, and the loop waits
+#: for CPUs it cannot get whenever the planning thread is preempted holding the lock. Two
+#: CPU-bound benchmarks beside it gave 97 % within 100 ms and 0.5-0.7 s stalls, with or without
+#: this item's changes (with one, about 1 CPU used by others, it passed: p99 19-21 ms). Then only
+#: the bounds the test had before are asked: OVERSUBSCRIBED_SHARE within 100 ms, none beyond
+#: OVERSUBSCRIBED_STALL_SECONDS (a blocked loop or a lost SIGHUP still fails). CI runs the suite
+#: alone on its machine.
+OTHERS_CPU_LIMIT = 1.25
 OVERSUBSCRIBED_SHARE = 0.9
 OVERSUBSCRIBED_STALL_SECONDS = 2.0
 #: Python start-up, loading 20,000 targets and the first 36-hour plan, on a shared 2-core machine.
@@ -126,35 +129,19 @@ def _big_target_file(path: Path, count: int, silent: int) -> None:
     path.write_text("\n".join(tables))
 
 
-def _others_running(service_pid: int) -> int:
-    """Runnable tasks on the machine now that belong neither to this test nor to the service and
-    its children (each process counted by its threads in state R; /proc/loadavg counts the same)."""
-    with open("/proc/loadavg") as fileobj:
-        running = int(fileobj.read().split()[3].partition("/")[0])
+def _cpu_seconds(service_pid: int) -> tuple[float, float]:
+    """(CPU seconds the machine has been busy, CPU seconds of this test and of the service with its
+    reaped children), from /proc."""
+    tick = os.sysconf("SC_CLK_TCK")
+    with open("/proc/stat") as fileobj:
+        jiffies = [int(x) for x in fileobj.readline().split()[1:]]
+    busy = sum(jiffies[:3]) + sum(jiffies[5:8])  # user, nice, system; irq, softirq, steal
     ours = 0
-    pids = {os.getpid(), service_pid}
-    for entry in os.listdir("/proc"):
-        if entry.isdigit():
-            try:
-                with open(f"/proc/{entry}/stat") as fileobj:
-                    fields = fileobj.read().rpartition(")")[2].split()
-            except OSError:
-                continue
-            if int(fields[1]) == service_pid:  # the service's reload child
-                pids.add(int(entry))
-    for pid in pids:
-        try:
-            tasks = os.listdir(f"/proc/{pid}/task")
-        except OSError:
-            continue
-        for task in tasks:
-            try:
-                with open(f"/proc/{pid}/task/{task}/stat") as fileobj:
-                    state = fileobj.read().rpartition(")")[2].split()[0]
-            except OSError:
-                continue
-            ours += state == "R"
-    return max(0, running - ours)
+    for pid in (os.getpid(), service_pid):
+        with open(f"/proc/{pid}/stat") as fileobj:
+            fields = fileobj.read().rpartition(")")[2].split()
+        ours += sum(int(x) for x in fields[11:15])  # utime, stime, cutime, cstime
+    return busy / tick, ours / tick
 
 
 @pytest.fixture
@@ -198,7 +185,7 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
         sent_mono = time.monotonic()
         process.send_signal(signal.SIGHUP)
         latencies: list[float] = []
-        others: list[int] = []
+        cpu_before = _cpu_seconds(process.pid)
 
         def reload_done() -> bool:
             later = [m for _, m in receiver.messages[before:]]
@@ -210,23 +197,23 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
             asked = time.monotonic()
             request_once(socket_path, {"op": "status"}, timeout_seconds=5.0)
             latencies.append(time.monotonic() - asked)
-            others.append(_others_running(process.pid))
             assert asked - sent_mono < DEADLINE_SECONDS, "the reload never finished (a lost SIGHUP?)"
             time.sleep(POLL_SECONDS)
         reload_seconds = time.monotonic() - sent_mono
+        busy = [b - a for a, b in zip(cpu_before, _cpu_seconds(process.pid), strict=True)]
+        others = (busy[0] - busy[1]) / reload_seconds
         pings = [t for t, m in receiver.messages if "WATCHDOG=1" in m and t >= sent_mono]
         gaps = [b - a for a, b in zip([sent_mono, *pings], pings, strict=False)]
         within = sum(1 for seconds in latencies if seconds < STATUS_LIMIT_SECONDS) / len(latencies)
         ordered = sorted(latencies)
         p99 = ordered[min(len(ordered) - 1, int(STATUS_SHARE_WITHIN_LIMIT * len(ordered)))]
-        busy = sum(others) / len(others)
         print(f"reload {reload_seconds:.2f} s; {len(latencies)} status replies, {within:.1%} within "
               f"{STATUS_LIMIT_SECONDS * 1000:g} ms, p99 {p99 * 1000:.1f} ms, slowest "
               f"{max(latencies) * 1000:.1f} ms; watchdog gaps up to {max(gaps, default=0):.2f} s; "
-              f"other processes' runnable tasks {busy:.2f} on average")
+              f"other processes used {others:.2f} CPUs")
         assert reload_seconds > 1.0, "the reload was too quick to show anything; use more targets"
         share, stall = STATUS_SHARE_WITHIN_LIMIT, STALL_LIMIT_SECONDS
-        if busy > OTHERS_RUNNABLE_LIMIT:
+        if others > OTHERS_CPU_LIMIT:
             share, stall = OVERSUBSCRIBED_SHARE, OVERSUBSCRIBED_STALL_SECONDS
         assert within >= share, ordered[-10:]
         assert max(latencies) < stall, ordered[-5:]
