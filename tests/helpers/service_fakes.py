@@ -207,6 +207,39 @@ def synthetic_night(targets=("NGC 1001", "NGC 1002", "NGC 1003", "NGC 1004", "NG
     return tuple(sorted(events, key=lambda e: e.time_utc))
 
 
+def simulated_service(tmp_path, clock, config, channels, *, source=None, **options):
+    """A real Service on a simulated clock: ClockScheduler, a SQLite ledger in ``tmp_path``, no
+    control socket, planning inline (no worker thread, so simulated time cannot run on meanwhile).
+
+    ``source`` is the agenda source (default: the synthetic night); ``options`` go to Service.
+    """
+    from siderod.service.daemon import Service
+    from siderod.service.scheduling import ClockScheduler
+
+    options.setdefault("anomaly_period_seconds", 10.0)
+    return Service(
+        lambda: config,
+        clock,
+        lambda on_due: ClockScheduler(on_due, clock),
+        channels,
+        ledger_path=tmp_path / "ledger.sqlite3",
+        agenda_source=source if source is not None else FixedAgendaSource(synthetic_night()),
+        control=False,
+        env={},
+        offload_planning=False,
+        file_poll_seconds=0,
+        clock_health_reader=synchronised_health,
+        **options,
+    )
+
+
+def synchronised_health():
+    """Clock health of a synchronised clock (1 ms estimated error): no clock alert in the way."""
+    from siderod.common.model import ClockHealth
+
+    return ClockHealth(state="synchronised", estimated_error_seconds=0.001)
+
+
 async def run_service_until(service, clock: FakeClock, until_utc: datetime, *, step_seconds: float = 60.0):
     """Start ``service.run()`` and advance the fake clock to ``until_utc``; return the run task.
 

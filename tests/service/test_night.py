@@ -9,36 +9,9 @@ from helpers import service_fakes as fakes
 
 from siderod.common.clock import FakeClock
 from siderod.plan.planner import plan_alerts, plan_repeats
-from siderod.service.scheduling import ClockScheduler
 
 # The requirement: each alert within 1 s (simulated) of its due time.
 ON_TIME_SECONDS = 1.0
-
-
-def _service(tmp_path, clock, config, source, channels, **kw):
-    from siderod.service.daemon import Service
-
-    return Service(
-        lambda: config,
-        clock,
-        lambda on_due: ClockScheduler(on_due, clock),
-        channels,
-        ledger_path=tmp_path / "ledger.sqlite3",
-        agenda_source=source,
-        control=False,
-        env={},
-        offload_planning=False,
-        file_poll_seconds=0,
-        anomaly_period_seconds=kw.pop("anomaly_period_seconds", 10.0),
-        clock_health_reader=lambda: fakes_clock_health(),
-        **kw,
-    )
-
-
-def fakes_clock_health():
-    from siderod.common.model import ClockHealth
-
-    return ClockHealth(state="synchronised", estimated_error_seconds=0.001)
 
 
 @pytest.mark.slow
@@ -48,7 +21,7 @@ async def test_whole_night_every_alert_once_in_order_on_time(tmp_path):
     events = fakes.synthetic_night()
     source = fakes.FixedAgendaSource(events)
     recorder = fakes.RecordingChannel(clock)
-    service = _service(tmp_path, clock, config, source, [recorder])
+    service = fakes.simulated_service(tmp_path, clock, config, [recorder], source=source)
     end_utc = fakes.NIGHT_START_UTC + timedelta(hours=16)
 
     # What should happen, from the planner alone over the whole night (no horizon, no service).
@@ -97,7 +70,8 @@ async def test_demo_night_through_the_real_agenda(tmp_path, demo_config):
     assert any(a.repeat_number for a in expected)
     clock = FakeClock(start)
     recorder = fakes.RecordingChannel(clock)
-    service = _service(tmp_path, clock, config, lambda c, s, h: compute_agenda(c, s, h), [recorder])
+    service = fakes.simulated_service(tmp_path, clock, config, [recorder],
+                                      source=lambda c, s, h: compute_agenda(c, s, h))
     task = await fakes.run_service_until(service, clock, end, step_seconds=600.0)
     await fakes.stop_service(service, task)
     got = [r for r in recorder.received if not r.message.key.startswith("service|")]

@@ -16,7 +16,6 @@ from helpers import service_fakes as fakes
 
 from siderod.common.clock import FakeClock
 from siderod.plan.planner import plan_repeats
-from siderod.service.scheduling import ClockScheduler
 
 # Every repeat within this of its due time (simulated seconds): the night tests' own bound.
 ON_TIME_SECONDS = 1.0
@@ -25,31 +24,6 @@ REPEAT_MINUTES = 2.0
 REPEAT_COUNT = 500
 # Bounds a failure only: the whole plan follows READY=1 within a few loop turns (no time passes).
 WAIT_SECONDS = 10.0
-
-
-def _service(tmp_path, clock, config, channels):
-    from siderod.service.daemon import Service
-
-    return Service(
-        lambda: config,
-        clock,
-        lambda on_due: ClockScheduler(on_due, clock),
-        channels,
-        ledger_path=tmp_path / "ledger.sqlite3",
-        agenda_source=fakes.FixedAgendaSource(fakes.synthetic_night()),
-        control=False,
-        env={},
-        offload_planning=False,
-        file_poll_seconds=0,
-        anomaly_period_seconds=10.0,
-        clock_health_reader=_health,
-    )
-
-
-def _health():
-    from siderod.common.model import ClockHealth
-
-    return ClockHealth(state="synchronised", estimated_error_seconds=0.001)
 
 
 def _config():
@@ -66,7 +40,7 @@ async def test_one_plan_holds_the_repeats_of_its_stretch_not_of_the_horizon(tmp_
 
     clock = FakeClock(fakes.NIGHT_START_UTC)
     config = _config()
-    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    service = fakes.simulated_service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
     task = await fakes.run_service_until(service, clock, clock.now_utc())
     stretch_end = clock.now_utc() + timedelta(minutes=repeat_stretch_minutes(config))
     repeats = [a for a in service._plan.values() if a.repeat_number]
@@ -86,7 +60,7 @@ async def test_repeats_go_on_across_re_plans_once_each_on_time(tmp_path):
     clock = FakeClock(fakes.NIGHT_START_UTC)
     config = _config()
     recorder = fakes.RecordingChannel(clock)
-    service = _service(tmp_path, clock, config, [recorder])
+    service = fakes.simulated_service(tmp_path, clock, config, [recorder])
     end_utc = fakes.NIGHT_START_UTC + timedelta(hours=10)
     task = await fakes.run_service_until(service, clock, end_utc, step_seconds=600.0)
     await fakes.stop_service(service, task)
@@ -106,7 +80,7 @@ async def test_after_a_stop_repeats_past_their_grace_are_not_missed_and_the_seri
     clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=2))  # 18:00; NGC 1001 flips at 18:18:03
     config = _config()
     first = fakes.RecordingChannel(clock)
-    service = _service(tmp_path, clock, config, [first])
+    service = fakes.simulated_service(tmp_path, clock, config, [first])
     stop_utc = fakes.NIGHT_START_UTC + timedelta(hours=2, minutes=21)
     task = await fakes.run_service_until(service, clock, stop_utc)
     await fakes.stop_service(service, task)
@@ -118,7 +92,7 @@ async def test_after_a_stop_repeats_past_their_grace_are_not_missed_and_the_seri
     restart_utc = clock.now_utc()
     grace = timedelta(minutes=config.alerts.grace_minutes)
     second = fakes.RecordingChannel(clock)
-    service = _service(tmp_path, clock, config, [second])
+    service = fakes.simulated_service(tmp_path, clock, config, [second])
     task = await fakes.run_service_until(service, clock, restart_utc + timedelta(minutes=10))
     await fakes.stop_service(service, task)
 
@@ -156,7 +130,7 @@ async def test_the_first_plan_is_the_first_stretch_and_the_whole_horizon_follows
     config = _config()
     assert first_stretch_minutes(config) < repeat_stretch_minutes(config)
     source = fakes.FixedAgendaSource(fakes.synthetic_night())
-    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    service = fakes.simulated_service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
     service._agenda_source = source
     task = asyncio.get_running_loop().create_task(service.run())
     await fakes.wait_ready(service, task)

@@ -11,32 +11,6 @@ from helpers import service_fakes as fakes
 from siderod.common.clock import FakeClock
 from siderod.common.model import EventKind, Urgency
 from siderod.service.protocol import Op, Request, parse_request, snapshot_from_json, snapshot_to_json
-from siderod.service.scheduling import ClockScheduler
-
-
-def _service(tmp_path, clock, config, channels):
-    from siderod.service.daemon import Service
-
-    return Service(
-        lambda: config,
-        clock,
-        lambda on_due: ClockScheduler(on_due, clock),
-        channels,
-        ledger_path=tmp_path / "ledger.sqlite3",
-        agenda_source=fakes.FixedAgendaSource(fakes.synthetic_night()),
-        control=False,
-        env={},
-        offload_planning=False,
-        file_poll_seconds=0,
-        anomaly_period_seconds=10.0,
-        clock_health_reader=_health,
-    )
-
-
-def _health():
-    from siderod.common.model import ClockHealth
-
-    return ClockHealth(state="synchronised", estimated_error_seconds=0.001)
 
 
 def _flip_urgencies(service):
@@ -47,7 +21,7 @@ def _flip_urgencies(service):
 async def test_use_request_makes_one_target_critical_and_survives_a_restart(tmp_path):
     clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=2))
     config = fakes.make_config(horizon_hours=16.0)
-    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    service = fakes.simulated_service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
     task = await fakes.run_service_until(service, clock, clock.now_utc())
     before = _flip_urgencies(service)
     assert set(before.values()) == {Urgency.CRITICAL}  # nothing in use: today's behaviour
@@ -62,8 +36,8 @@ async def test_use_request_makes_one_target_critical_and_survives_a_restart(tmp_
     await fakes.stop_service(service, task)
 
     # A restart remembers it (the ledger keeps it until dawn).
-    service = _service(tmp_path, clock, replace(config, mount=replace(config.mount, other_targets="off")),
-                       [fakes.RecordingChannel(clock)])
+    config = replace(config, mount=replace(config.mount, other_targets="off"))
+    service = fakes.simulated_service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
     task = await fakes.run_service_until(service, clock, clock.now_utc())
     assert service.snapshot().mount.in_use == "NGC 1003"
     assert set(_flip_urgencies(service)) == {"NGC 1003"}  # others "off"
@@ -78,7 +52,7 @@ async def test_use_request_makes_one_target_critical_and_survives_a_restart(tmp_
 @pytest.mark.slow
 async def test_target_in_use_is_forgotten_at_dawn(tmp_path):
     clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=4))  # 20:00 UTC
-    service = _service(tmp_path, clock, fakes.make_config(), [fakes.RecordingChannel(clock)])
+    service = fakes.simulated_service(tmp_path, clock, fakes.make_config(), [fakes.RecordingChannel(clock)])
     task = await fakes.run_service_until(service, clock, clock.now_utc())
     await service.handle_request(Request(op=Op.USE, target="NGC 1001"))
     until = service._mount.in_use_until_utc
@@ -95,7 +69,7 @@ async def test_a_mount_alert_reaches_every_channel(tmp_path):
 
     clock = FakeClock(fakes.NIGHT_START_UTC + timedelta(hours=4))
     recorders = [fakes.RecordingChannel(clock, "one"), fakes.RecordingChannel(clock, "two")]
-    service = _service(tmp_path, clock, fakes.make_config(), recorders)
+    service = fakes.simulated_service(tmp_path, clock, fakes.make_config(), recorders)
     task = await fakes.run_service_until(service, clock, clock.now_utc())
     await clock.settle()  # the service's tasks start (the link loop says "off": none configured)
     watch = service._mount.watch
@@ -130,7 +104,7 @@ async def test_the_board_key_cycles_through_targets_nearest_the_meridian_then_no
                     for n, ra in (("east", (lst_deg + 15) % 360), ("near", (lst_deg + 2) % 360),
                                   ("west", (lst_deg - 25) % 360)))
     config = replace(config, targets=targets)
-    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    service = fakes.simulated_service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
     task = await fakes.run_service_until(service, clock, clock.now_utc())
     picked = [await service.cycle_target_in_use() for _ in range(4)]
     assert picked == ["near", "east", "west", None]
@@ -148,7 +122,7 @@ async def test_the_board_key_offers_a_planet_too(tmp_path):
     jupiter = Target(name="Jupiter", frame=Frame.BODY, lon_deg=0.0, lat_deg=0.0, ra_deg=None, dec_deg=0.0,
                      body="jupiter")
     config = replace(fakes.make_config(targets=()), targets=(jupiter,), ephemeris=load_ephemeris)
-    service = _service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    service = fakes.simulated_service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
     task = await fakes.run_service_until(service, clock, clock.now_utc())
     assert [await service.cycle_target_in_use() for _ in range(2)] == ["Jupiter", None]
     await fakes.stop_service(service, task)
