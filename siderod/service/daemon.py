@@ -219,6 +219,8 @@ class Service:
         self.ledger_error = ""
         self._unwritten: list[tuple[str, Callable[[], object]]] = []
         self._claimed_unwritten: set[str] = set()
+        # Acknowledged while the ledger could not be written: in force now, written on recovery.
+        self._acks_unwritten: set[str] = set()
         self._mount: Any = None  # siderod.service.mount.MountDesk, built in run()
 
     # -- public API ----------------------------------------------------------------------------
@@ -424,8 +426,10 @@ class Service:
     def awaiting_acknowledgement(self) -> tuple[str, ...]:
         """Event ids of critical alerts that have been given and will repeat until acknowledged."""
         assert self._ledger is not None
-        # Events whose repeats are still in the plan (not all delivered or dropped since).
-        candidates = self._repeats_by_event.keys() & self._ledger.given_events()
+        # Events whose repeats are still in the plan (not all delivered or dropped since), given
+        # according to the ledger or to the claims it could not take yet (a full disk).
+        given_events = self._ledger.given_events() | {event_id(k) for k in self._claimed_unwritten}
+        candidates = self._repeats_by_event.keys() & given_events
         plan = self._plan
         given = {e for e in candidates if any(k in plan for k in self._repeats_by_event[e])}
         return tuple(sorted(given | set(self._mount.awaiting())))  # and the linked mount's own
@@ -444,13 +448,22 @@ class Service:
             events = [e for e in self.awaiting_acknowledgement()
                       if target is None or e.rsplit("|", 2)[0] == target]
         now_utc = self._clock.now_utc()
-        fresh = self._ledger.acknowledge(events, now_utc, via)
+        ledger = self._ledger
+        fresh = self._write("acknowledge", lambda: ledger.acknowledge(events, now_utc, via),
+                            replay=lambda: self._write_acks(events, now_utc, via))
+        if fresh is None:  # not written yet: in force at once (repeats stop), written on recovery
+            known = self._acknowledged()
+            fresh = tuple(e for e in dict.fromkeys(events) if e not in known)
+            self._acks_unwritten.update(fresh)
         self._mount.user_acknowledged(fresh)
         if not fresh:
             return ()
-        dropped = self._ledger.drop_owed_of_events(fresh, now_utc)
+        dropped = self._write("drop owed alerts", lambda: ledger.drop_owed_of_events(fresh, now_utc),
+                              fallback=())
+        prefixes = tuple(event + "|" for event in fresh)
         for worker in self._workers.values():
-            worker.drop(set(dropped))
+            # By prefix too: debts the ledger could not drop (or never held) are forgotten alike.
+            worker.drop(set(dropped) | {k for k in worker.queued_keys() if k.startswith(prefixes)})
         log.info("acknowledged (%s): %s; their repeats stop", via, ", ".join(fresh))
         await self.replan("acknowledged")
         return fresh
@@ -459,6 +472,16 @@ class Service:
         """The board's U key: the next target in use (nearest the meridian first), then none."""
         assert self.config is not None
         return await self._mount.cycle(self.config)
+
+    def _acknowledged(self) -> frozenset[str]:
+        """Every acknowledged event id: the ledger's and those it could not be given yet."""
+        assert self._ledger is not None
+        return self._ledger.acknowledged() | self._acks_unwritten
+
+    def _write_acks(self, events: Sequence[str], now_utc: datetime, via: str) -> None:
+        assert self._ledger is not None
+        self._ledger.acknowledge(events, now_utc, via)
+        self._acks_unwritten.difference_update(events)
 
     def _mount_acknowledged(self, events: tuple[str, ...], reason: str) -> None:
         """The mount acknowledged its own flip alerts (the pier side changed): keep it in the ledger."""
@@ -606,7 +629,7 @@ class Service:
             hours = ahead_hours + lookback.total_seconds() / 3600.0
             self._mutes = self._ledger.mutes(now_utc)
             planned, near_sun = await self._compute_plan(config, start_utc, hours, dict(self._mutes), now_utc,
-                                                         self._ledger.acknowledged(), stretch_end_utc)
+                                                         self._acknowledged(), stretch_end_utc)
             planned = self._mount.adjust(planned, config)  # the target in use
             # Only critical alerts insist: a repeat made less urgent by the target in use goes.
             planned = tuple(a for a in planned if a.repeat_number == 0 or a.urgency is Urgency.CRITICAL)

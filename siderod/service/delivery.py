@@ -561,6 +561,10 @@ class ChannelWorker:
         heapq.heappush(self._heap, (item.due_utc.timestamp(), next(self._order), item))
         self._changed.set()
 
+    def queued_keys(self) -> frozenset[str]:
+        """The keys of the alerts queued on this channel (not service messages)."""
+        return frozenset(self._keys)
+
     def drop(self, keys: Collection[str]) -> int:
         """Forget queued alerts with these keys (not one being sent); return how many were queued.
 

@@ -172,3 +172,44 @@ def test_a_stale_read_only_shm_file_is_no_reason_to_refuse_to_start():
             "ledger.sqlite3-shm.stale-20261214T160000Z"]
     finally:
         shutil.rmtree(directory, ignore_errors=True)
+
+
+async def test_an_acknowledgement_on_a_full_disk_stops_the_repeats_and_is_written_when_freed():
+    """A full disk must not leave a critical alert repeating every 2 minutes with no way to
+    silence it: the acknowledgement takes effect at once and reaches the ledger later."""
+    flip_utc = fakes.NIGHT_START_UTC + timedelta(minutes=5)
+    events = [Event(flip_utc, EventKind.FLIP_DUE, "T000", 60.0, 180.0, hour_angle_hours=0.1, mark_hours=0.1)]
+    config = fakes.make_config(targets=("T000",), lead_minutes={EventKind.FLIP_DUE: (0.0,)},
+                               repeat_minutes=2.0, repeat_count=30)
+    with small_disk(512) as disk:
+        ledger_path = disk / "ledger.sqlite3"
+        clock = FakeClock(fakes.NIGHT_START_UTC)
+        desk = fakes.RecordingChannel(clock, "desktop")
+        service = fakes.simulated_service(disk, clock, config, [desk], source=fakes.FixedAgendaSource(events))
+        task = await fakes.run_service_until(service, clock, fakes.NIGHT_START_UTC + timedelta(seconds=30))
+        fill(disk)
+        task = await _advance(service, clock, task, flip_utc + timedelta(minutes=5))  # the alert, 2 repeats
+        given = len(desk.alert_keys)
+        assert given >= 3, desk.alert_keys
+        event = f"T000|flip-due|{flip_utc:%Y-%m-%dT%H:%M:%SZ}"
+        assert service.awaiting_acknowledgement() == (event,)
+
+        assert await service.acknowledge(via="command") == (event,)
+        await _advance(service, clock, task, flip_utc + timedelta(minutes=20))
+        assert len(desk.alert_keys) == given, "no repeat after the acknowledgement"
+        assert service.awaiting_acknowledgement() == ()
+
+        free(disk)
+        for _ in range(3):
+            await clock.advance(RETRY_SECONDS)
+        assert service.snapshot().ledger_error == ""
+        await fakes.stop_service(service, task)
+        with Ledger(ledger_path) as ledger:
+            assert event in ledger.acknowledged()
+
+
+async def _advance(service, clock, task, until_utc):
+    while clock.now_utc() < until_utc:
+        await clock.advance(1.0)
+        assert not task.done(), "the service kept running"
+    return task
