@@ -54,10 +54,7 @@ async def test_a_full_disk_keeps_alerting_says_so_and_reconciles_when_freed():
         service = _service(ledger_path, clock, count, [log, desk])
         task = await fakes.run_service_until(service, clock, fakes.NIGHT_START_UTC + timedelta(seconds=30))
         fill(disk)
-        end = fakes.NIGHT_START_UTC + timedelta(seconds=60 + 20 * count)
-        while clock.now_utc() < end:
-            await clock.advance(1.0)
-        assert not task.done(), "the service kept running"
+        await _advance(service, clock, task, fakes.NIGHT_START_UTC + timedelta(seconds=60 + 20 * count))
         expected = [f"T{i:03d}" for i in range(count)]
         assert [k.split("|")[0] for k in log.alert_keys] == expected
         assert [k.split("|")[0] for k in desk.alert_keys] == expected
@@ -66,11 +63,7 @@ async def test_a_full_disk_keeps_alerting_says_so_and_reconciles_when_freed():
         warnings = [m for m in desk.service_messages if "ledger" in m.title]
         assert len(warnings) == 1 and str(ledger_path) in warnings[0].body
 
-        free(disk)
-        for _ in range(3):
-            await clock.advance(RETRY_SECONDS)
-        assert service.snapshot().ledger_error == ""
-        await fakes.stop_service(service, task)
+        await _free_and_reconcile(disk, service, clock, task)
         with Ledger(ledger_path) as ledger:
             states = {r.key.split("|")[0]: r.state for r in ledger.rows()}
             assert ledger.channel_counts() == {"log": {"delivered": count}, "desktop": {"delivered": count}}
@@ -188,7 +181,7 @@ async def test_an_acknowledgement_on_a_full_disk_stops_the_repeats_and_is_writte
         service = fakes.simulated_service(disk, clock, config, [desk], source=fakes.FixedAgendaSource(events))
         task = await fakes.run_service_until(service, clock, fakes.NIGHT_START_UTC + timedelta(seconds=30))
         fill(disk)
-        task = await _advance(service, clock, task, flip_utc + timedelta(minutes=5))  # the alert, 2 repeats
+        await _advance(service, clock, task, flip_utc + timedelta(minutes=5))  # the alert, 2 repeats
         given = len(desk.alert_keys)
         assert given >= 3, desk.alert_keys
         event = f"T000|flip-due|{flip_utc:%Y-%m-%dT%H:%M:%SZ}"
@@ -199,17 +192,23 @@ async def test_an_acknowledgement_on_a_full_disk_stops_the_repeats_and_is_writte
         assert len(desk.alert_keys) == given, "no repeat after the acknowledgement"
         assert service.awaiting_acknowledgement() == ()
 
-        free(disk)
-        for _ in range(3):
-            await clock.advance(RETRY_SECONDS)
-        assert service.snapshot().ledger_error == ""
-        await fakes.stop_service(service, task)
+        await _free_and_reconcile(disk, service, clock, task)
         with Ledger(ledger_path) as ledger:
             assert event in ledger.acknowledged()
 
 
 async def _advance(service, clock, task, until_utc):
+    """Run the simulated clock on to ``until_utc`` a second at a time; the service must keep running."""
     while clock.now_utc() < until_utc:
         await clock.advance(1.0)
         assert not task.done(), "the service kept running"
     return task
+
+
+async def _free_and_reconcile(disk, service, clock, task):
+    """Free the disk, let the service's retries write what was kept, and stop it."""
+    free(disk)
+    for _ in range(3):
+        await clock.advance(RETRY_SECONDS)
+    assert service.snapshot().ledger_error == ""
+    await fakes.stop_service(service, task)
