@@ -289,14 +289,7 @@ def _beam_events(config: Config, observer, pointing: Target, pointing_index: int
     half_ha = 0.5 * float(pointing.beam_ha_deg)
     half_dec = 0.5 * float(pointing.beam_dec_deg)
     out: list[EventTable] = []
-    piece_start = start_unix
-    while piece_start < end_unix - ev.EDGE_TOLERANCE_SECONDS:
-        piece_end = min(end_unix, piece_start + CHUNK_HOURS * 3600.0)
-        sidereal = FastSidereal(piece_start - 600.0, piece_end + 600.0, dut1_seconds=dut1)
-
-        def last(unix, _s=sidereal):
-            return _s.last_hours(unix, lon)
-
+    for piece_start, piece_end, last in _window_pieces(start_unix, end_unix, lon, dut1):
         for what, members in groups:
             if what == "stars":
                 mid = float(instants_from_unix(0.5 * (piece_start + piece_end), dut1_seconds=dut1).jd_tt)
@@ -324,7 +317,6 @@ def _beam_events(config: Config, observer, pointing: Target, pointing_index: int
                 names, times, kind, target=pointing_index, altitude_deg=alt_geo, azimuth_deg=az,
                 hour_angle_hours=ev.observed_hour_angle_hours(ha, dec, lat), beam_source=source,
                 beam_offset_deg=offset))
-        piece_start = piece_end
     return EventTable.concat(out, names) if out else EventTable.empty(names)
 
 
@@ -469,14 +461,7 @@ def _target_pieces(config, observer, group, offset, start_unix, end_unix, wanted
     stars = None if bodies else target_stars(group, mid_jd_tt)
     cross: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
     up_at_start = None
-    piece_start = start_unix
-    while piece_start < end_unix - ev.EDGE_TOLERANCE_SECONDS:
-        piece_end = min(end_unix, piece_start + CHUNK_HOURS * 3600.0)
-        sidereal = FastSidereal(piece_start - 600.0, piece_end + 600.0, dut1_seconds=dut1)
-
-        def last(unix, _s=sidereal):
-            return _s.last_hours(unix, lon)
-
+    for piece_start, piece_end, last in _window_pieces(start_unix, end_unix, lon, dut1):
         if bodies:
             track = _moving_track(config, observer, group, piece_start, piece_end)
         else:
@@ -508,7 +493,6 @@ def _target_pieces(config, observer, group, offset, start_unix, end_unix, wanted
             idx, times, rising = ev.find_altitude_events(track, last, lat, geo, piece_start, piece_end)
             maker.crossings(idx, times, rising, EventKind.ALTITUDE_UP, EventKind.ALTITUDE_DOWN, wanted,
                             threshold=threshold)
-        piece_start = piece_end
     if up_at_start is None:
         up_at_start = np.zeros(len(group), dtype=bool)
     if cross:
@@ -518,6 +502,22 @@ def _target_pieces(config, observer, group, offset, start_unix, end_unix, wanted
         order = np.lexsort((t, idx))
         return up_at_start, idx[order], t[order], rising[order]
     return up_at_start, np.zeros(0, dtype=np.int64), np.zeros(0), np.zeros(0, dtype=bool)
+
+
+def _window_pieces(start_unix, end_unix, lon, dut1):
+    """The window cut into pieces of at most ``CHUNK_HOURS``: ``(piece start, piece end, last)``,
+    where ``last(unix)`` is the local apparent sidereal time in hours, from a fast table covering
+    the piece and 10 minutes either side (events are refined a little past a piece's edges)."""
+    piece_start = start_unix
+    while piece_start < end_unix - ev.EDGE_TOLERANCE_SECONDS:
+        piece_end = min(end_unix, piece_start + CHUNK_HOURS * 3600.0)
+        sidereal = FastSidereal(piece_start - 600.0, piece_end + 600.0, dut1_seconds=dut1)
+
+        def last(unix, _s=sidereal):
+            return _s.last_hours(unix, lon)
+
+        yield piece_start, piece_end, last
+        piece_start = piece_end
 
 
 def _moving_track(config, observer, group, start_unix, end_unix):
