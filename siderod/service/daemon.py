@@ -1102,7 +1102,7 @@ class Service:
                 with Ledger(self._ledger_path) as own:
                     return _index_plan(planned, open_keys(own))
 
-            return await asyncio.to_thread(write)
+            return await self._off_loop(write)  # a row object per alert: no collections meanwhile
         except sqlite3.Error as exc:  # a full or failing disk: the next re-plan writes it again
             self._ledger_failed("plan", exc)
             return None

@@ -75,3 +75,33 @@ async def test_collections_stay_on_while_a_reload_waits_for_its_child(tmp_path):
         await load
     with pytest.raises(ProcessLookupError):
         os.kill(int(pid_file.read_text()), 0)  # and cancelling the load ended its child
+
+
+async def test_a_timer_replan_writes_its_plan_with_collections_paused(tmp_path, monkeypatch):
+    # The plan's ledger write makes a row object per alert on a worker thread; a full collection
+    # meanwhile would hold the interpreter lock as it did during reloads.
+    from siderod.service.daemon import Service
+    from siderod.service.ledger import Ledger
+    from siderod.service.scheduling import ClockScheduler
+
+    clock = FakeClock(fakes.NIGHT_START_UTC)
+    service = Service(lambda: fakes.make_config(), clock, lambda on_due: ClockScheduler(on_due, clock),
+                      [fakes.RecordingChannel(clock)], ledger_path=tmp_path / "ledger.sqlite3",
+                      agenda_source=fakes.FixedAgendaSource(fakes.synthetic_night()), control=False, env={},
+                      offload_planning=True, file_poll_seconds=0,
+                      clock_health_reader=fakes.synchronised_health)
+    task = asyncio.create_task(service.run())
+    # Real worker threads plan here: wait in real time, bounded for a loaded machine.
+    await asyncio.wait_for(service._whole_plan.wait(), CHILD_WAIT_SECONDS)
+    seen: list[bool] = []
+    original = Ledger.replace_planned
+
+    def recording(self, *args, **kwargs):
+        seen.append(gc.isenabled())
+        return original(self, *args, **kwargs)
+
+    monkeypatch.setattr(Ledger, "replace_planned", recording)
+    await service.replan("timer")
+    await fakes.stop_service(service, task)
+    assert seen == [False]
+    assert gc.isenabled() and gc.get_freeze_count() == 0
