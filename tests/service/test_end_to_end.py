@@ -11,19 +11,17 @@ from __future__ import annotations
 import json
 import os
 import re
-import shutil
 import signal
 import socket
 import subprocess
 import sys
-import tempfile
-import threading
 import time
 import uuid
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import pytest
+from helpers import real_service
 
 pytestmark = pytest.mark.slow
 
@@ -32,7 +30,6 @@ DEMO_DIR = REPO / "siderod" / "demo"
 #: Python start-up, numpy, the IERS table and the first 36-hour agenda of the demo targets, and one
 #: configuration file poll (5 s in the service) on a shared two-core machine.
 DEADLINE_SECONDS = 20.0
-POLL_SECONDS = 0.05
 #: WATCHDOG_USEC given to the service: it pings every half of it (systemd's advice).
 WATCHDOG_USEC = 2_000_000
 #: The mute is for 1 h; the service's clock read and ours differ by the CLI's run time only.
@@ -46,16 +43,14 @@ BAD_RA_LINE = 'ra = "5h61m"'  # 61 minutes: invalid
 PROMPT = "siderod-e2e$ "
 
 
+@pytest.fixture
+def short_dir():
+    with real_service.short_dir("sde2e") as directory:
+        yield directory
+
+
 def wait_until(predicate, what: str, deadline_seconds: float = DEADLINE_SECONDS):
-    """Poll ``predicate`` every 50 ms until it returns something truthy; fail after the deadline."""
-    end = time.monotonic() + deadline_seconds
-    while True:
-        value = predicate()
-        if value:
-            return value
-        if time.monotonic() > end:
-            raise AssertionError(f"timed out after {deadline_seconds:g} s waiting for {what}")
-        time.sleep(POLL_SECONDS)
+    return real_service.wait_until(predicate, what, deadline_seconds)
 
 
 def toml_string(text: str) -> str:
@@ -74,68 +69,6 @@ def write_demo_copy(directory: Path, hook_file: Path) -> tuple[Path, Path]:
     targets.write_text((DEMO_DIR / "demo-targets.toml").read_text())
     assert targets.read_text().count(GOOD_RA_LINE) == 1
     return config, targets
-
-
-class NotifyReceiver:
-    """The systemd side of sd_notify: a datagram socket, read promptly by a thread, as systemd does.
-
-    Reading promptly matters: Linux queues only ``net.unix.max_dgram_qlen`` (often 10) datagrams,
-    and the service's send blocks once the queue is full.
-    """
-
-    def __init__(self, path: Path) -> None:
-        self.path = path
-        self.sock = socket.socket(socket.AF_UNIX, socket.SOCK_DGRAM)
-        self.sock.bind(str(path))
-        self.sock.settimeout(POLL_SECONDS)
-        self._messages: list[str] = []
-        self._lock = threading.Lock()
-        self._stop = threading.Event()
-        self._thread = threading.Thread(target=self._read, name="notify-receiver", daemon=True)
-        self._thread.start()
-
-    def _read(self) -> None:
-        while not self._stop.is_set():
-            try:
-                data = self.sock.recv(4096)
-            except TimeoutError:
-                continue
-            except OSError:
-                return
-            with self._lock:
-                self._messages.append(data.decode())
-
-    @property
-    def messages(self) -> list[str]:
-        with self._lock:
-            return list(self._messages)
-
-    def close(self) -> None:
-        self._stop.set()
-        self._thread.join(timeout=5)
-        self.sock.close()
-
-
-@pytest.fixture
-def short_dir():
-    """A directory under /tmp: unix socket paths are limited to 107 bytes, tmp_path can be longer."""
-    directory = Path(tempfile.mkdtemp(prefix="sde2e", dir="/tmp"))
-    try:
-        yield directory
-    finally:
-        shutil.rmtree(directory, ignore_errors=True)
-
-
-def service_env(directory: Path) -> dict[str, str]:
-    env = dict(os.environ)
-    for name in ("NOTIFY_SOCKET", "WATCHDOG_USEC", "WATCHDOG_PID", "SIDEROD_CONFIG", "COLUMNS", "LINES",
-                 "DBUS_SESSION_BUS_ADDRESS"):
-        env.pop(name, None)
-    for name, sub in (("XDG_RUNTIME_DIR", "run"), ("XDG_STATE_HOME", "state"), ("XDG_CONFIG_HOME", "config")):
-        (directory / sub).mkdir(mode=0o700, exist_ok=True)
-        env[name] = str(directory / sub)
-    env["HOME"] = str(directory)
-    return env
 
 
 def siderod(env: dict[str, str], *args: str, timeout: float = 30.0) -> subprocess.CompletedProcess:
@@ -157,8 +90,8 @@ def hook_lines(hook_file: Path) -> list[str]:
 def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanly(short_dir):
     hook_file = short_dir / "hook.txt"
     config, targets = write_demo_copy(short_dir, hook_file)
-    env = service_env(short_dir)
-    receiver = NotifyReceiver(short_dir / "notify.sock")
+    env = real_service.service_env(short_dir)
+    receiver = real_service.NotifyReceiver(short_dir / "notify.sock")
     env.update(NOTIFY_SOCKET=str(receiver.path), WATCHDOG_USEC=str(WATCHDOG_USEC))
     socket_path = short_dir / "run" / "siderod" / "control.sock"
     assert len(os.fsencode(socket_path)) < 108
@@ -307,7 +240,7 @@ class Tmux:
         """Two captures in a row with the same text: never a frame half drawn."""
         def same():
             first = self.capture()
-            time.sleep(POLL_SECONDS)
+            time.sleep(real_service.POLL_SECONDS)
             return first if self.capture() == first else None
 
         return wait_until(same, "a steady pane")
@@ -334,7 +267,7 @@ def test_run_with_the_board_in_tmux_keeps_it_whole_under_log_lines_and_ctrl_c_le
     tool("tmux")
     hook_file = short_dir / "hook.txt"
     config, _ = write_demo_copy(short_dir, hook_file)
-    env = service_env(short_dir)
+    env = real_service.service_env(short_dir)
     env.update(TERM="xterm-256color", LANG="C.UTF-8", PS1=PROMPT)
     tmux = Tmux(env)
     try:

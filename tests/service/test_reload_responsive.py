@@ -10,17 +10,14 @@ from __future__ import annotations
 
 import os
 import random
-import shutil
 import signal
-import socket
 import subprocess
 import sys
-import tempfile
-import threading
 import time
 from pathlib import Path
 
 import pytest
+from helpers import real_service
 
 from siderod.service.control import request_once
 
@@ -68,52 +65,6 @@ OVERSUBSCRIBED_SHARE = 0.9
 OVERSUBSCRIBED_STALL_SECONDS = 2.0
 #: Python start-up, loading 20,000 targets and the first 36-hour plan, on a shared 2-core machine.
 DEADLINE_SECONDS = 120.0
-POLL_SECONDS = 0.02
-
-
-class _NotifyReceiver:
-    """The systemd side of sd_notify, read promptly by a thread; each datagram with its arrival time."""
-
-    def __init__(self, path: Path) -> None:
-        self.sock = socket.socket(socket.AF_UNIX, socket.SOCK_DGRAM)
-        self.sock.bind(str(path))
-        self.sock.settimeout(POLL_SECONDS)
-        self.path = path
-        self._messages: list[tuple[float, str]] = []
-        self._lock = threading.Lock()
-        self._stop = threading.Event()
-        self._thread = threading.Thread(target=self._read, daemon=True)
-        self._thread.start()
-
-    def _read(self) -> None:
-        while not self._stop.is_set():
-            try:
-                data = self.sock.recv(4096)
-            except TimeoutError:
-                continue
-            except OSError:
-                return
-            with self._lock:
-                self._messages.append((time.monotonic(), data.decode()))
-
-    @property
-    def messages(self) -> list[tuple[float, str]]:
-        with self._lock:
-            return list(self._messages)
-
-    def close(self) -> None:
-        self._stop.set()
-        self._thread.join(timeout=5)
-        self.sock.close()
-
-
-def _wait_until(predicate, what: str):
-    end = time.monotonic() + DEADLINE_SECONDS
-    while not (value := predicate()):
-        if time.monotonic() > end:
-            raise AssertionError(f"timed out after {DEADLINE_SECONDS:g} s waiting for {what}")
-        time.sleep(POLL_SECONDS)
-    return value
 
 
 def _big_target_file(path: Path, count: int, silent: int) -> None:
@@ -146,11 +97,12 @@ def _cpu_seconds(service_pid: int) -> tuple[float, float]:
 
 @pytest.fixture
 def short_dir():
-    directory = Path(tempfile.mkdtemp(prefix="sdrl", dir="/tmp"))  # socket paths are short
-    try:
+    with real_service.short_dir("sdrl") as directory:
         yield directory
-    finally:
-        shutil.rmtree(directory, ignore_errors=True)
+
+
+def wait_until(predicate, what: str):
+    return real_service.wait_until(predicate, what, DEADLINE_SECONDS)
 
 
 def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
@@ -160,14 +112,8 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
     assert 'files = ["big.toml"]' in text
     config.write_text(text)
     _big_target_file(short_dir / "big.toml", TARGET_COUNT, SILENT_COUNT)
-    env = dict(os.environ)
-    for name in ("NOTIFY_SOCKET", "WATCHDOG_PID", "SIDEROD_CONFIG", "DBUS_SESSION_BUS_ADDRESS"):
-        env.pop(name, None)
-    for name, sub in (("XDG_RUNTIME_DIR", "run"), ("XDG_STATE_HOME", "state"), ("XDG_CONFIG_HOME", "cfg")):
-        (short_dir / sub).mkdir(mode=0o700)
-        env[name] = str(short_dir / sub)
-    env["HOME"] = str(short_dir)
-    receiver = _NotifyReceiver(short_dir / "notify.sock")
+    env = real_service.service_env(short_dir)
+    receiver = real_service.NotifyReceiver(short_dir / "notify.sock")
     env.update(NOTIFY_SOCKET=str(receiver.path), WATCHDOG_USEC=str(WATCHDOG_USEC))
     socket_path = short_dir / "run" / "siderod" / "control.sock"
     log_path = short_dir / "service.log"
@@ -178,9 +124,9 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
     try:
         def ready() -> bool:
             assert process.poll() is None, log_path.read_text()
-            return any("READY=1" in m for _, m in receiver.messages)
+            return any("READY=1" in m for m in receiver.messages)
 
-        _wait_until(ready, "READY=1 after the first plan")
+        wait_until(ready, "READY=1 after the first plan")
         before = len(receiver.messages)
         sent_mono = time.monotonic()
         process.send_signal(signal.SIGHUP)
@@ -188,7 +134,7 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
         cpu_before = _cpu_seconds(process.pid)
 
         def reload_done() -> bool:
-            later = [m for _, m in receiver.messages[before:]]
+            later = receiver.messages[before:]
             reloading = [i for i, m in enumerate(later) if "RELOADING=1" in m]
             return bool(reloading) and any("READY=1" in m for m in later[reloading[0]:])
 
@@ -198,11 +144,11 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
             request_once(socket_path, {"op": "status"}, timeout_seconds=5.0)
             latencies.append(time.monotonic() - asked)
             assert asked - sent_mono < DEADLINE_SECONDS, "the reload never finished (a lost SIGHUP?)"
-            time.sleep(POLL_SECONDS)
+            time.sleep(real_service.POLL_SECONDS)
         reload_seconds = time.monotonic() - sent_mono
         busy = [b - a for a, b in zip(cpu_before, _cpu_seconds(process.pid), strict=True)]
         others = (busy[0] - busy[1]) / reload_seconds
-        pings = [t for t, m in receiver.messages if "WATCHDOG=1" in m and t >= sent_mono]
+        pings = [t for t, m in receiver.timed_messages if "WATCHDOG=1" in m and t >= sent_mono]
         gaps = [b - a for a, b in zip([sent_mono, *pings], pings, strict=False)]
         within = sum(1 for seconds in latencies if seconds < STATUS_LIMIT_SECONDS) / len(latencies)
         ordered = sorted(latencies)
