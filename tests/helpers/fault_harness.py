@@ -31,11 +31,10 @@ from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
-from helpers.session_bus import BUS_CONFIG, read_first_line
+from helpers.session_bus import BUS_CONFIG, read_first_line, start_notify_server
 from helpers.smalldisk import fill, free
 
 REPO = Path(__file__).resolve().parents[2]
-SERVER = Path(__file__).resolve().parent / "notify_server.py"
 LATE_MARK_SECONDS = 30.0  # siderod.service.daemon.LATE_MARK_SECONDS
 # A receiver notes the time a little after the service decided "late" or not: the log line and
 # the hook's own start-up (a Python process) sit between the two.
@@ -200,11 +199,8 @@ class Harness:
     def start_notify(self) -> None:
         record = self.work / f"notify-{len(self.records)}.jsonl"
         self.records.append(record)
-        self.notify = subprocess.Popen([sys.executable, str(SERVER), str(record)], stdout=subprocess.PIPE,
-                                       stderr=subprocess.DEVNULL,
-                                       env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=self.bus_address))
+        self.notify = start_notify_server(record, self.bus_address)
         self._notifies.append(self.notify)
-        assert read_first_line(self.notify, "notify_server") == "ready"
 
     def start_service(self) -> None:
         runs_before = self._runs()

@@ -10,10 +10,8 @@ from __future__ import annotations
 import asyncio
 import json
 import logging
-import os
 import signal
 import subprocess
-import sys
 import tempfile
 import time
 from datetime import timedelta
@@ -21,14 +19,13 @@ from pathlib import Path
 
 import pytest
 from helpers.session_bus import BUS_CONFIG as _BUS_CONFIG
-from helpers.session_bus import START_TIMEOUT_SECONDS, read_first_line
+from helpers.session_bus import START_TIMEOUT_SECONDS, read_first_line, start_notify_server, stop_process
 
 from siderod.common.model import EventKind, Urgency
 from siderod.service.delivery import AlertMessage, ChannelFailed, DesktopChannel, LogChannel
 
 pytestmark = [pytest.mark.slow, pytest.mark.needs_dbus]
 
-SERVER = Path(__file__).resolve().parents[1] / "helpers" / "notify_server.py"
 SEND_TIMEOUT_SECONDS = 0.5  # short in tests; 5 s in production
 # A bounded send gives up within its timeout plus event-loop slack.
 BOUNDED_SLACK_SECONDS = 1.0
@@ -62,20 +59,11 @@ def session_bus(tool, monkeypatch):
 def notify_server(session_bus, tmp_path):
     """The recording notification service. Yields (process, record file)."""
     record = tmp_path / "notify.jsonl"
-    process = subprocess.Popen(
-        [sys.executable, str(SERVER), str(record)],
-        stdout=subprocess.PIPE,
-        stderr=subprocess.DEVNULL,
-        env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus),
-    )
+    process = start_notify_server(record, session_bus)
     try:
-        assert read_first_line(process, "notify_server") == "ready"
         yield process, record
     finally:
-        process.send_signal(signal.SIGCONT)  # in case a test left it stopped
-        process.kill()
-        process.wait()
-        process.stdout.close()
+        stop_process(process)
 
 
 def _records(path: Path) -> list[dict]:
@@ -258,17 +246,12 @@ async def test_a_replaced_server_gets_the_alert_the_hung_one_never_showed(notify
             await channel.send(flip)
         process.kill()
         process.wait()
-        second = subprocess.Popen([sys.executable, str(SERVER), str(second_record)], stdout=subprocess.PIPE,
-                                  stderr=subprocess.DEVNULL,
-                                  env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus))
-        assert read_first_line(second, "second notify_server") == "ready"
+        second = start_notify_server(second_record, session_bus, what="second notify_server")
         await channel.send(flip)
     finally:
         await channel.close()
         if second is not None:
-            second.kill()
-            second.wait()
-            second.stdout.close()
+            stop_process(second)
     assert [g["summary"] for g in _records(second_record)] == [flip.title]
 
 
@@ -293,16 +276,11 @@ async def test_a_server_that_showed_the_alert_before_it_was_replaced_gets_no_sec
             await asyncio.sleep(0.01)
         process.kill()
         process.wait()
-        second = subprocess.Popen([sys.executable, str(SERVER), str(second_record)], stdout=subprocess.PIPE,
-                                  stderr=subprocess.DEVNULL,
-                                  env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=session_bus))
-        assert read_first_line(second, "second notify_server") == "ready"
+        second = start_notify_server(second_record, session_bus, what="second notify_server")
         await channel.send(flip)  # the retry: the first server answered, so nothing is sent
     finally:
         await channel.close()
         if second is not None:
-            second.kill()
-            second.wait()
-            second.stdout.close()
+            stop_process(second)
     assert [g["summary"] for g in _records(record)] == ["before the hang", flip.title]
     assert _records(second_record) == []

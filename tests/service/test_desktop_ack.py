@@ -7,10 +7,7 @@ from __future__ import annotations
 
 import asyncio
 import json
-import os
-import signal
 import subprocess
-import sys
 import tempfile
 import time
 from datetime import timedelta
@@ -19,7 +16,7 @@ from pathlib import Path
 import pytest
 from helpers import service_fakes as fakes
 from helpers.session_bus import BUS_CONFIG as _BUS_CONFIG
-from helpers.session_bus import read_first_line
+from helpers.session_bus import read_first_line, start_notify_server, stop_process
 
 from siderod.common.clock import FakeClock
 from siderod.common.model import ClockHealth, Event, EventKind
@@ -28,7 +25,6 @@ from siderod.service.scheduling import ClockScheduler
 
 pytestmark = [pytest.mark.slow, pytest.mark.needs_dbus]
 
-SERVER = Path(__file__).resolve().parents[1] / "helpers" / "notify_server.py"
 BUS_WAIT_SECONDS = 30.0  # the longest real wait for something to cross the bus (a loaded machine)
 FLIP_UTC = fakes.NIGHT_START_UTC + timedelta(minutes=5)
 
@@ -48,22 +44,12 @@ def desktop(tool, monkeypatch, tmp_path):
             address = read_first_line(bus, "dbus-daemon")
             monkeypatch.setenv("DBUS_SESSION_BUS_ADDRESS", address)
             record = tmp_path / "notify.jsonl"
-            server = subprocess.Popen([sys.executable, str(SERVER), str(record), "--commands"],
-                                      stdin=subprocess.PIPE, stdout=subprocess.PIPE,
-                                      stderr=subprocess.DEVNULL,
-                                      env=dict(os.environ, DBUS_SESSION_BUS_ADDRESS=address))
-            assert read_first_line(server, "notify_server") == "ready"
+            server = start_notify_server(record, address, commands=True)
             yield server, record
         finally:
             for process in (server, bus):
-                if process is None:
-                    continue
-                process.send_signal(signal.SIGCONT)
-                process.kill()
-                process.wait()
-                process.stdout.close()
-                if process.stdin:
-                    process.stdin.close()
+                if process is not None:
+                    stop_process(process)
 
 
 def _records(path: Path) -> list[dict]:
