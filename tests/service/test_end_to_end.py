@@ -15,13 +15,12 @@ import signal
 import socket
 import subprocess
 import sys
-import time
-import uuid
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import pytest
 from helpers import real_service
+from helpers.tmux_pane import TmuxPane
 
 pytestmark = pytest.mark.slow
 
@@ -211,45 +210,6 @@ def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanl
 # -- the live board and the service in one real terminal --------------------------------------------
 
 
-class Tmux:
-    """A private tmux server (``-L``), so nobody's own sessions are touched."""
-
-    def __init__(self, env: dict[str, str]) -> None:
-        self.name = f"siderod-e2e-{uuid.uuid4().hex[:12]}"
-        self.env = env
-
-    def __call__(self, *args: str) -> str:
-        return subprocess.run(["tmux", "-L", self.name, "-f", "/dev/null", *args], env=self.env,
-                              capture_output=True, text=True, timeout=10, check=True).stdout
-
-    def start(self, width: int, height: int) -> None:
-        self("new-session", "-d", "-s", "ui", "-x", str(width), "-y", str(height), "-c", str(REPO),
-             "bash --norc --noprofile")
-        wait_until(lambda: self.capture().strip(), "a shell in the pane")
-        self.type(f"PS1='{PROMPT}'; clear")
-        wait_until(lambda: self.capture().strip() == PROMPT.strip(), "the test prompt")
-
-    def type(self, line: str) -> None:
-        self("send-keys", "-t", "ui", "-l", line)
-        self("send-keys", "-t", "ui", "Enter")
-
-    def capture(self) -> str:
-        return self("capture-pane", "-p", "-t", "ui")
-
-    def steady_capture(self) -> str:
-        """Two captures in a row with the same text: never a frame half drawn."""
-        def same():
-            first = self.capture()
-            time.sleep(real_service.POLL_SECONDS)
-            return first if self.capture() == first else None
-
-        return wait_until(same, "a steady pane")
-
-    def kill(self) -> None:
-        subprocess.run(["tmux", "-L", self.name, "kill-server"], env=self.env, capture_output=True,
-                       timeout=10, check=False)
-
-
 def board_is_whole(text: str) -> bool:
     """One title, the clock right under it, the table header once, and no log text inside the board."""
     lines = text.splitlines()
@@ -269,9 +229,9 @@ def test_run_with_the_board_in_tmux_keeps_it_whole_under_log_lines_and_ctrl_c_le
     config, _ = write_demo_copy(short_dir, hook_file)
     env = real_service.service_env(short_dir)
     env.update(TERM="xterm-256color", LANG="C.UTF-8", PS1=PROMPT)
-    tmux = Tmux(env)
+    tmux = TmuxPane(env, deadline_seconds=DEADLINE_SECONDS)
     try:
-        tmux.start(100, 30)
+        tmux.start(100, 30, PROMPT)
         tmux.type(f"{sys.executable} -m siderod run --config {config}")
         wait_until(lambda: "this service" in (t := tmux.capture()) and re.search(r"apparent \d\dh", t),
                    "the board with its apparent LST")

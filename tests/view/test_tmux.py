@@ -10,15 +10,13 @@ import math
 import os
 import re
 import shutil
-import subprocess
 import sys
-import time
-import uuid
 from datetime import UTC, datetime
 from pathlib import Path
 
 import erfa  # reference: pyerfa, from the test extra
 import pytest
+from helpers.tmux_pane import TmuxPane, tmux_env
 
 pytestmark = [
     pytest.mark.slow,
@@ -48,74 +46,9 @@ def _plain_terminal_environment(monkeypatch):
         monkeypatch.delenv(name, raising=False)
 
 
-class Tmux:
-    """A private tmux server (``-L``) so the user's own sessions are never touched."""
-
-    def __init__(self, home: Path) -> None:
-        self.socket_name = f"siderod-test-{uuid.uuid4().hex[:12]}"
-        self.env = {
-            "PATH": f"{Path(sys.executable).parent}:/usr/bin:/bin",
-            "HOME": str(home),
-            "LANG": "C.UTF-8",
-            "TERM": "xterm-256color",
-            "PS1": PROMPT,
-            "XDG_RUNTIME_DIR": str(home / "run"),  # empty: no service answers, the board says so
-            "XDG_CONFIG_HOME": str(home / "config"),
-            "XDG_STATE_HOME": str(home / "state"),
-        }
-        (home / "run").mkdir(mode=0o700)
-
-    def __call__(self, *args: str) -> str:
-        done = subprocess.run(["tmux", "-L", self.socket_name, "-f", "/dev/null", *args], env=self.env,
-                              capture_output=True, text=True, timeout=10, check=True)
-        return done.stdout
-
-    def start(self, width: int, height: int) -> None:
-        self("new-session", "-d", "-s", "ui", "-x", str(width), "-y", str(height), "-c", str(REPO),
-             "bash --norc --noprofile")
-        self.wait_for(lambda text: text.strip() != "")
-        # bash may not take PS1 from the environment (it does not here, running as root): set it.
-        self.type(f"PS1='{PROMPT}'; clear")
-        self.wait_for(lambda text: text.strip() == PROMPT.strip())
-
-    def type(self, line: str) -> None:
-        self("send-keys", "-t", "ui", "-l", line)
-        self("send-keys", "-t", "ui", "Enter")
-
-    def capture(self) -> str:
-        return self("capture-pane", "-p", "-t", "ui")
-
-    def steady_capture(self) -> str:
-        """A capture taken twice in a row with the same text: never a frame half drawn."""
-        previous = self.capture()
-        while True:
-            time.sleep(0.02)
-            current = self.capture()
-            if current == previous:
-                return current
-            previous = current
-
-    def wait_for(self, predicate, deadline_seconds: float = FRAME_DEADLINE_SECONDS) -> str:
-        end = time.monotonic() + deadline_seconds
-        while True:
-            text = self.capture()
-            if predicate(text):
-                return text
-            if time.monotonic() > end:
-                raise AssertionError(f"the pane never showed what was expected; last capture:\n{text}")
-            time.sleep(0.05)
-
-    def query(self, fmt: str) -> str:
-        return self("display-message", "-p", "-t", "ui", fmt).strip()
-
-    def kill(self) -> None:
-        subprocess.run(["tmux", "-L", self.socket_name, "kill-server"], env=self.env, capture_output=True,
-                       timeout=10, check=False)
-
-
 @pytest.fixture
 def tmux(tmp_path):
-    server = Tmux(tmp_path)
+    server = TmuxPane(tmux_env(tmp_path, PS1=PROMPT), deadline_seconds=FRAME_DEADLINE_SECONDS)
     try:
         yield server
     finally:
@@ -168,7 +101,7 @@ def assert_table_fits(text: str, width: int) -> None:
 
 
 def test_once_at_an_instant_shows_the_erfa_lst_and_fits_80_columns(tmux):
-    tmux.start(80, 24)
+    tmux.start(80, 24, PROMPT)
     tmux.type(watch_command("--once", "--at", "2026-12-14T22:30:00Z"))
     text = tmux.wait_for(lambda t: "would alert" in t and t.rstrip().endswith(PROMPT.rstrip()))
     shown_seconds, shown_utc = shown_lst_and_utc(text)
@@ -182,7 +115,7 @@ def test_once_at_an_instant_shows_the_erfa_lst_and_fits_80_columns(tmux):
 
 
 def test_live_ticks_survives_a_resize_and_ctrl_c_leaves_a_clean_prompt(tmux):
-    tmux.start(80, 24)
+    tmux.start(80, 24, PROMPT)
     tmux.type(watch_command("--hz", "2"))
     first = tmux.wait_for(lambda t: "apparent sidereal time" in t and "target " in t)
     first_utc = shown_lst_and_utc(first)[1]

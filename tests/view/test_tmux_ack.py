@@ -16,12 +16,12 @@ import signal
 import subprocess
 import sys
 import time
-import uuid
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import erfa  # reference: pyerfa, from the test extra
 import pytest
+from helpers.tmux_pane import TmuxPane, tmux_env
 
 pytestmark = [
     pytest.mark.slow,
@@ -57,37 +57,8 @@ def _ra_for_flip_at(when_utc: datetime, dec_deg: float) -> str:
     return f"{h:02d}h{m:02d}m{s:05.2f}s"
 
 
-class _Tmux:
-    """A private tmux server (-L) running one command in a fixed-size pane."""
-
-    def __init__(self, home: Path) -> None:
-        self.socket_name = f"siderod-ack-{uuid.uuid4().hex[:12]}"
-        self.env = {
-            "PATH": f"{Path(sys.executable).parent}:/usr/bin:/bin",
-            "HOME": str(home), "LANG": "C.UTF-8", "TERM": "xterm-256color",
-            "PYTHONPATH": str(REPO),
-            "XDG_RUNTIME_DIR": str(home / "run"), "XDG_CONFIG_HOME": str(home / "config"),
-            "XDG_STATE_HOME": str(home / "state"),
-        }
-        (home / "run").mkdir(mode=0o700)
-
-    def __call__(self, *args: str) -> str:
-        done = subprocess.run(["tmux", "-L", self.socket_name, "-f", "/dev/null", *args], env=self.env,
-                              capture_output=True, text=True, timeout=10, check=True)
-        return done.stdout
-
-    def capture(self) -> str:
-        return self("capture-pane", "-p", "-t", "ui")
-
-    def wait_for(self, predicate, what: str) -> str:
-        end = time.monotonic() + DEADLINE_SECONDS
-        while True:
-            text = self.capture()
-            if predicate(text):
-                return text
-            if time.monotonic() > end:
-                raise AssertionError(f"the pane never showed {what}; last capture:\n{text}")
-            time.sleep(0.1)  # a real process draws the pane
+class _Tmux(TmuxPane):
+    """The pane runs `siderod run` itself, which must not outlive the test."""
 
     def kill(self) -> None:
         # kill-server alone hangs up the pane, and siderod run takes SIGHUP as "reload": it would
@@ -97,8 +68,7 @@ class _Tmux:
                                   check=False).stdout.strip()
         if pane_pid.isdigit():
             _stop(int(pane_pid))
-        subprocess.run(["tmux", "-L", self.socket_name, "kill-server"], env=self.env, capture_output=True,
-                       timeout=10, check=False)
+        super().kill()
 
 
 def _stop(pid: int) -> None:
@@ -131,7 +101,7 @@ def test_the_a_key_on_the_board_acknowledges_a_repeating_flip(tmp_path):
         'timezone = "Europe/London"\n[targets]\nfiles = ["targets.toml"]\n'
         '[mount]\nkind = "german-equatorial"\nflip_after = 0\nlimit_after = 30\n'
         f'[alerts]\nrepeat = {REPEAT_MINUTES}\n[alerts.lead]\nflip-due = [0]\n[notify]\ndesktop = false\n')
-    tmux = _Tmux(tmp_path)
+    tmux = _Tmux(tmux_env(tmp_path, PYTHONPATH=str(REPO)), deadline_seconds=DEADLINE_SECONDS)
     try:
         tmux("new-session", "-d", "-s", "ui", "-x", "120", "-y", "40", "-c", str(REPO),
              f"{sys.executable} -m siderod run --config {config}")
