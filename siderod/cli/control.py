@@ -293,8 +293,11 @@ def format_status(result: dict[str, Any]) -> str:
             lines.append(f"  {_event_text(event, zone)}")
     lines.extend(_mount_status_lines(s.mount))
     lines.append(f"next alerts ({s.planned_count} planned, {s.missed_count} missed):")
+    if s.partial_plan_until_utc is not None:
+        lines.append(f"  (planned to {_local(s.partial_plan_until_utc, zone)} so far; the rest of the horizon"
+                     " is being planned: ask again in a few seconds)")
     if not s.next_alerts:
-        lines.append("  none planned")
+        lines.append("  none planned" if s.partial_plan_until_utc is None else "  none yet")
     for alert in s.next_alerts:
         ahead = (alert.due_utc - s.taken_utc).total_seconds()
         when = f"in {format_duration(ahead)}" if ahead >= 0 else f"{format_duration(-ahead)} late"

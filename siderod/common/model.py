@@ -493,6 +493,9 @@ class ServiceSnapshot:
     config_error: str = ""  # the last failed reload, if any
     missed_count: int = 0
     planned_count: int = 0
+    # Set while only the first stretch is planned (just after start): the plan reaches this far,
+    # and the rest of the horizon is being planned. None once the whole horizon is.
+    partial_plan_until_utc: datetime | None = None
     clock_tolerance_seconds: float = 1.0  # from [time] clock_tolerance
     ledger_error: str = ""  # why the alert ledger cannot be written now ("" when it can)
     mount: MountView = field(default_factory=MountView)

@@ -211,6 +211,8 @@ class Service:
         self._reload_asked = asyncio.Event()
         self._ready = asyncio.Event()
         self._whole_plan = asyncio.Event()  # set once a plan of the whole horizon is made
+        # Until then (the first stretch's plan at start): how far the plan reaches.
+        self._partial_plan_until_utc: datetime | None = None
         self._file_stamps: dict[str, tuple[int, int] | None] = {}
         self._sun_altitude: Callable[[datetime], float] | None = None
         self._service_message_count = 0
@@ -417,6 +419,7 @@ class Service:
             config_error=self.config_error,
             missed_count=counts.get("missed", 0),
             planned_count=len(self._plan),
+            partial_plan_until_utc=self._partial_plan_until_utc,
             clock_tolerance_seconds=self.config.time.clock_tolerance_seconds,
             mount=self._mount.view(),
             awaiting_ack=self.awaiting_acknowledgement(),
@@ -654,7 +657,10 @@ class Service:
                 self._queue.put_nowait(alert.key)
             if self._missed_titles:
                 self._queue.put_nowait(_SUMMARY)
-            if not stretch_only:
+            if stretch_only:
+                self._partial_plan_until_utc = stretch_end_utc
+            else:
+                self._partial_plan_until_utc = None
                 self._whole_plan.set()
             log.info(
                 "planned %d alerts to %s (%s%s); %d due now",
@@ -1217,6 +1223,9 @@ class Service:
         # The plan is in due order (see _compute_plan): called after every alert, this must not
         # scan a 100,000-alert plan.
         first = next(itertools.dropwhile(lambda a: a.due_utc < now_utc, self._plan.values()), None)
+        if first is None and self._partial_plan_until_utc is not None:
+            return (f"STATUS=no alert before {self._partial_plan_until_utc.strftime('%H:%M:%S')} UTC;"
+                    " planning the rest of the horizon")
         if first is None:
             return "STATUS=no alerts planned"
         return f"STATUS=next alert {first.due_utc.strftime('%H:%M:%S')} UTC: {first.title}"

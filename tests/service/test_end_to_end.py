@@ -101,14 +101,20 @@ def test_a_real_service_under_sd_notify_answers_the_cli_reloads_and_stops_cleanl
             env=env, cwd=REPO, stdin=subprocess.DEVNULL, stdout=log, stderr=subprocess.STDOUT,
         )
     try:
-        # READY=1 comes once the first plan is made: with it, a STATUS= naming the next alert, and a
-        # STATUS= from the plan itself before it. Watchdog pings start after READY.
+        # READY=1 comes once the first plan (of the first stretch) is made: with it, a STATUS= naming
+        # the next alert, or saying none falls in the stretch while the rest is planned (then a later
+        # STATUS= names it), and a STATUS= from the plan itself before it. Pings start after READY.
         messages = wait_until(lambda: (m := receiver.messages) and any("READY=1" in x for x in m) and m,
                               "READY=1")
         ready_index = next(i for i, m in enumerate(messages) if "READY=1" in m)
-        ready_status = re.search(r"^STATUS=next alert \d\d:\d\d:\d\d UTC: (.+)$", messages[ready_index], re.M)
-        assert ready_status, messages[ready_index]
         assert any(m.startswith("STATUS=") for m in messages[:ready_index]), messages
+        next_alert = re.compile(r"^STATUS=next alert \d\d:\d\d:\d\d UTC: (.+)$", re.M)
+        if not next_alert.search(messages[ready_index]):
+            assert re.fullmatch(r"READY=1\nSTATUS=no alert before \d\d:\d\d:\d\d UTC; planning the rest of"
+                                r" the horizon", messages[ready_index]), messages[ready_index]
+        ready_status = wait_until(
+            lambda: next(filter(None, map(next_alert.search, receiver.messages[ready_index:])), None),
+            "a STATUS= naming the next alert")
         wait_until(lambda: sum("WATCHDOG=1" in m for m in receiver.messages) >= 2, "two WATCHDOG=1 pings",
                    deadline_seconds=4 * WATCHDOG_USEC / 1e6)
         assert not any("WATCHDOG=1" in m for m in receiver.messages[:ready_index])

@@ -147,3 +147,37 @@ async def test_the_first_plan_is_the_first_stretch_and_the_whole_horizon_follows
     assert max(a.due_utc for a in service._plan.values()) > stretch_end
     assert first_plan.keys() <= service._plan.keys()  # the stretch planned alike both times
     await fakes.stop_service(service, task)
+
+
+async def test_a_first_stretch_without_alerts_is_not_reported_as_nothing_planned(tmp_path):
+    # Found by CI at an hour when the demo night had no alert within the first 30 minutes: READY=1
+    # said "no alerts planned" although the whole horizon was still being planned. Here the start
+    # is 40 minutes into the synthetic night, when the next alert (a rise, 5 min ahead) is 79 min off.
+    from siderod.cli.control import format_status
+    from siderod.service.daemon import first_stretch_minutes
+    from siderod.service.protocol import snapshot_from_json, snapshot_to_json
+
+    start = fakes.NIGHT_START_UTC + timedelta(minutes=40)
+    clock = FakeClock(start)
+    config = _config()
+    service = fakes.simulated_service(tmp_path, clock, config, [fakes.RecordingChannel(clock)])
+    sent: list[str] = []
+    service._notify = sent.append
+    task = asyncio.get_running_loop().create_task(service.run())
+    await fakes.wait_ready(service, task)
+    stretch_end = start + timedelta(minutes=first_stretch_minutes(config))
+    ready = next(m for m in sent if m.startswith("READY=1"))
+    assert not service._plan, "no alert falls within the first stretch: the case under test"
+    assert ready == (f"READY=1\nSTATUS=no alert before {stretch_end:%H:%M:%S} UTC;"
+                     " planning the rest of the horizon")
+    partial = snapshot_to_json(service.snapshot())
+    assert snapshot_from_json(partial).partial_plan_until_utc == stretch_end
+    assert "planned to " in format_status(partial) and "  none yet" in format_status(partial)
+
+    await asyncio.wait_for(service.wait_whole_plan(), WAIT_SECONDS)
+    first = min(service._plan.values(), key=lambda a: a.due_utc)
+    assert first.due_utc > stretch_end
+    assert sent[-1] == f"STATUS=next alert {first.due_utc:%H:%M:%S} UTC: {first.title}"
+    whole = snapshot_to_json(service.snapshot())
+    assert whole["partial_plan_until_utc"] is None and "planned to " not in format_status(whole)
+    await fakes.stop_service(service, task)
