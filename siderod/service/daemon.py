@@ -907,18 +907,18 @@ class Service:
         """Replay the writes that failed, in order, once the ledger can be written again."""
         while True:
             await self._clock.sleep(LEDGER_RETRY_SECONDS)
-            if self.ledger_error and self._replay_unwritten():
+            if self.ledger_error and not self._replay_unwritten():
                 await self.replan("ledger writable again")
 
-    def _replay_unwritten(self) -> bool:
-        """Write what could not be written, in order; True if all of it is written now."""
+    def _replay_unwritten(self) -> str:
+        """Write what could not be written, in order; "" if all of it is written now, else why not."""
         while self._unwritten:
             what, write = self._unwritten[0]
             try:
                 write()
             except sqlite3.Error as exc:
                 log.debug("ledger still not writable (%s): %s", what, exc)
-                return False
+                return f"{what}: {exc}"
             self._unwritten.pop(0)
         count = len(self._claimed_unwritten)
         self._claimed_unwritten.clear()
@@ -926,7 +926,7 @@ class Service:
             self.ledger_error = ""
             log.warning("the alert ledger %s can be written again; %d alerts sent meanwhile are recorded",
                         self._ledger_path, count)
-        return True
+        return ""
 
     def _channel_snapshot(self) -> tuple[ChannelHealth, ...]:
         assert self._ledger is not None
@@ -1063,9 +1063,10 @@ class Service:
         # Let each send in flight finish and reach the ledger: a cancelled send is the one thing
         # that could make the next start resend it. What is still owed stays in the ledger.
         await self._stop_workers()
-        if self._unwritten and not self._replay_unwritten():
-            log.error("stopping with %d ledger writes not made (%s); the next start may repeat the alerts"
-                      " sent since the ledger stopped taking writes", len(self._unwritten), self.ledger_error)
+        if self._unwritten and (why := self._replay_unwritten()):
+            log.error("stopping with %d ledger writes not made (%s: %s); the next start may repeat the alerts"
+                      " sent since the ledger stopped taking writes", len(self._unwritten), self._ledger_path,
+                      why)
         raise _StopRequested
 
     # -- helpers -------------------------------------------------------------------------------
