@@ -46,6 +46,7 @@ def test_no_alert_is_lost_or_silently_dropped_under_faults(tool):
         print("\n" + h.table(figures))
         received = h.received()
         states = h.ledger_states()
+        log_lines = h.log_path.read_text().splitlines()
 
     for name, fig in figures.items():
         assert fig.lost == 0, f"{name} lost {fig.lost_keys}"
@@ -57,4 +58,8 @@ def test_no_alert_is_lost_or_silently_dropped_under_faults(tool):
         assert fig.marked_early == 0, name
     for name in ("log", "command"):  # these receive at once; the desktop may show a queued copy late
         assert figures[name].late_unmarked == 0, name
-    assert all(states[a.key] in ("delivered", "missed") for a in h.expected), "the ledger closed every alert"
+    open_rows = {a.key: states.get(a.key) for a in h.expected
+                 if states.get(a.key) not in ("delivered", "missed")}
+    told = [line for line in log_lines if any(key.split("|")[0] in line for key in open_rows)
+            or "stopping" in line or "ledger" in line]
+    assert not open_rows, f"the ledger closed every alert; still open: {open_rows}; log:\n" + "\n".join(told)

@@ -71,6 +71,28 @@ async def test_a_full_disk_keeps_alerting_says_so_and_reconciles_when_freed():
         assert len(desk.service_messages) == 1, "one desktop alert about the ledger, not one per write"
 
 
+async def test_a_stop_right_after_the_disk_is_freed_writes_what_was_kept():
+    # The stop writes what the full disk kept back, without waiting for a retry turn (the fault
+    # harness stops the service just after freeing its disk). A guard: this passed before the
+    # harness case was looked at (see tests/clock_sweep.py).
+    count = 4
+    with small_disk(512) as disk:
+        ledger_path = disk / "ledger.sqlite3"
+        clock = FakeClock(fakes.NIGHT_START_UTC)
+        log = fakes.RecordingChannel(clock, "log")
+        service = _service(ledger_path, clock, count, [log])
+        task = await fakes.run_service_until(service, clock, fakes.NIGHT_START_UTC + timedelta(seconds=30))
+        fill(disk)
+        await _advance(service, clock, task, fakes.NIGHT_START_UTC + timedelta(seconds=60 + 20 * count))
+        assert len(log.alert_keys) == count and service.snapshot().ledger_error
+        free(disk)
+        await fakes.stop_service(service, task)
+        with Ledger(ledger_path) as ledger:
+            states = {r.key.split("|")[0]: r.state for r in ledger.rows()}
+            assert ledger.channel_counts() == {"log": {"delivered": count}}
+        assert all(states[f"T{i:03d}"] == "delivered" for i in range(count)), states
+
+
 async def test_a_read_only_ledger_at_start_names_the_file_and_the_fix():
     with small_disk(512) as disk:
         ledger_path = disk / "ledger.sqlite3"
