@@ -6,6 +6,7 @@ has its own socket (``tmux -L``), so nobody's own sessions are ever touched.
 
 from __future__ import annotations
 
+import os
 import subprocess
 import sys
 import time
@@ -45,6 +46,11 @@ class TmuxPane:
         self.deadline_seconds = deadline_seconds
 
     def __call__(self, *args: str) -> str:
+        if args[:1] == ("new-session",):
+            # A clock moved by libfaketime (tests/clock_sweep.py) reaches the pane's programs; the
+            # tmux server itself stays off it (its timers break under libfaketime).
+            moved = [f"{k}={os.environ[k]}" for k in ("LD_PRELOAD", "FAKETIME") if k in os.environ]
+            args = (args[0], *(option for v in moved for option in ("-e", v)), *args[1:])
         done = subprocess.run(["tmux", "-L", self.socket_name, "-f", "/dev/null", *args], env=self.env,
                               capture_output=True, text=True, timeout=10, check=True)
         return done.stdout
