@@ -23,15 +23,11 @@ from pathlib import Path
 
 REPO = Path(__file__).resolve().parents[1]
 LIBFAKETIME = Path("/usr/lib/x86_64-linux-gnu/faketime/libfaketime.so.1")
-# Tests that fail under libfaketime only (each passes on the real clock in every CI run):
-# - the INDI test's status probe thread: its timed wait on the monotonic clock (threading.Event.wait)
-#   can sleep for the whole offset under libfaketime;
-# - the fault harness: its stop comes just after the ledger's disk is freed, and under libfaketime
-#   the service's last ledger writes then still fail with "disk is full" (4 runs in 5 at +13h, never
-#   on the real clock; not understood yet; the service logs the writes it could not make).
+# Tests that fail under libfaketime only (they pass on the real clock): the INDI test's status
+# probe thread, whose timed wait on the monotonic clock (threading.Event.wait) can sleep for the
+# whole offset under libfaketime.
 UNDER_FAKETIME_ONLY_FAILS = (
     "tests/service/test_mount_indi.py::test_flip_stop_and_lost_link_with_the_simulated_telescope",
-    "tests/service/test_fault_harness.py::test_no_alert_is_lost_or_silently_dropped_under_faults",
 )
 
 

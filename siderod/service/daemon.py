@@ -103,6 +103,10 @@ FIRST_STRETCH_MINUTES = 30.0
 SUN_GRID_SECONDS = 15.0
 # A graceful stop waits this long for the alert being sent to finish (each channel is bounded).
 STOP_WAIT_SECONDS = 15.0
+# Ledger writes a full disk kept back are tried this often at a stop, this far apart (real
+# seconds): a stop that comes just as the disk is freed still writes them.
+STOP_REPLAY_TRIES = 8
+STOP_REPLAY_PAUSE_SECONDS = 0.25
 
 # agenda_source(config, start_utc, hours) -> Agenda (siderod.plan.agenda.compute_agenda by default)
 AgendaSource = Callable[[Config, datetime, float], Any]
@@ -1063,10 +1067,16 @@ class Service:
         # Let each send in flight finish and reach the ledger: a cancelled send is the one thing
         # that could make the next start resend it. What is still owed stays in the ledger.
         await self._stop_workers()
-        if self._unwritten and (why := self._replay_unwritten()):
-            log.error("stopping with %d ledger writes not made (%s: %s); the next start may repeat the alerts"
-                      " sent since the ledger stopped taking writes", len(self._unwritten), self._ledger_path,
-                      why)
+        tries = 0
+        while self._unwritten and (why := self._replay_unwritten()):
+            tries += 1
+            if tries == STOP_REPLAY_TRIES:
+                log.error("stopping with %d ledger writes not made (%s: %s); the next start may repeat the"
+                          " alerts sent since the ledger stopped taking writes", len(self._unwritten),
+                          self._ledger_path, why)
+                break
+            log.info("ledger writes kept back still fail at stop (%s); trying again", why)
+            await asyncio.sleep(STOP_REPLAY_PAUSE_SECONDS)
         raise _StopRequested
 
     # -- helpers -------------------------------------------------------------------------------

@@ -44,6 +44,9 @@ log = logging.getLogger("siderod.ledger")
 EVENT_MATCH_SECONDS = 5.0
 
 _SCHEMA_VERSION = "2"
+# The write-ahead log: checkpointed every this many pages (4 KiB each), and cut back to this size.
+WAL_CHECKPOINT_PAGES = 100
+WAL_SIZE_LIMIT_BYTES = 1 << 20
 
 
 @dataclass(frozen=True, slots=True)
@@ -95,6 +98,12 @@ class Ledger:
         self._db.execute("PRAGMA journal_mode=WAL")
         self._db.execute("PRAGMA synchronous=NORMAL")
         self._db.execute("PRAGMA busy_timeout=5000")
+        # Keep the write-ahead log small: checkpointed every WAL_CHECKPOINT_PAGES pages (SQLite's
+        # default, 1000, lets it reach 4 MB before the database file gets a page) and cut back to
+        # WAL_SIZE_LIMIT_BYTES after. On a nearly full disk a big log was what still failed the
+        # writes after space was freed (the fault harness: 3.6 MB of log, a 4 KiB database file).
+        self._db.execute(f"PRAGMA wal_autocheckpoint={WAL_CHECKPOINT_PAGES}")
+        self._db.execute(f"PRAGMA journal_size_limit={WAL_SIZE_LIMIT_BYTES}")
         self._db.executescript(_SCHEMA)
         # A ledger that has never held a schema row is brand new: no earlier run could have left
         # alerts owing, so the service does not "catch up" on anything due before it started.

@@ -289,6 +289,7 @@ class Harness:
             if all(set(a.key for a in self.expected) <= {r.key for r in got[c]} for c in got):
                 break
             time.sleep(0.25)
+        self.disk_at_stop = _disk_usage(self.disk_dir) if self.disk_dir is not None else ""
         self.service.send_signal(signal.SIGTERM)
         self.service.wait(timeout=30)
 
@@ -382,3 +383,11 @@ def _mean_lst_hours(when: datetime, longitude_deg: float) -> float:
     jd = when.timestamp() / 86400.0 + 2440587.5
     gmst = erfa.gmst06(jd, 0.0, jd + 69.184 / 86400.0, 0.0)
     return ((gmst * 12.0 / 3.141592653589793) + longitude_deg / 15.0) % 24.0
+
+
+def _disk_usage(directory: Path) -> str:
+    """Free bytes and every file's size under ``directory`` (for a failure message)."""
+    stat = os.statvfs(directory)
+    files = ", ".join(f"{p.relative_to(directory)} {p.stat().st_size}" for p in sorted(directory.rglob("*"))
+                      if p.is_file())
+    return f"{stat.f_bavail * stat.f_frsize} bytes free; {files}"

@@ -47,6 +47,7 @@ def test_no_alert_is_lost_or_silently_dropped_under_faults(tool):
         received = h.received()
         states = h.ledger_states()
         log_lines = h.log_path.read_text().splitlines()
+        disk_at_stop = h.disk_at_stop
 
     for name, fig in figures.items():
         assert fig.lost == 0, f"{name} lost {fig.lost_keys}"
@@ -62,4 +63,5 @@ def test_no_alert_is_lost_or_silently_dropped_under_faults(tool):
                  if states.get(a.key) not in ("delivered", "missed")}
     told = [line for line in log_lines if any(key.split("|")[0] in line for key in open_rows)
             or "stopping" in line or "ledger" in line]
-    assert not open_rows, f"the ledger closed every alert; still open: {open_rows}; log:\n" + "\n".join(told)
+    assert not open_rows, (f"the ledger closed every alert; still open: {open_rows}; disk at the stop:"
+                           f" {disk_at_stop}; log:\n" + "\n".join(told))

@@ -73,8 +73,8 @@ async def test_a_full_disk_keeps_alerting_says_so_and_reconciles_when_freed():
 
 async def test_a_stop_right_after_the_disk_is_freed_writes_what_was_kept():
     # The stop writes what the full disk kept back, without waiting for a retry turn (the fault
-    # harness stops the service just after freeing its disk). A guard: this passed before the
-    # harness case was looked at (see tests/clock_sweep.py).
+    # harness stops the service just after freeing its disk). A guard: it passed before the fix of
+    # the harness case (a write-ahead log grown to most of the disk; see Ledger.__init__).
     count = 4
     with small_disk(512) as disk:
         ledger_path = disk / "ledger.sqlite3"
