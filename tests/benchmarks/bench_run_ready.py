@@ -28,7 +28,6 @@ import argparse
 import json
 import os
 import pathlib
-import signal
 import socket
 import subprocess
 import sys
@@ -37,8 +36,10 @@ import time
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT / "tests" / "benchmarks"))
+sys.path.insert(0, str(ROOT / "tests"))
 
 from bench_commands import make_catalogue  # noqa: E402
+from helpers.real_service import stop_service_process  # noqa: E402
 
 CLOCK_TICKS = os.sysconf("SC_CLK_TCK")
 
@@ -92,12 +93,7 @@ def measure(code_root: pathlib.Path, count: int, limit_seconds: float) -> dict[s
             if "first stretch" not in (home / "log").read_text(errors="replace"):
                 whole, peak_mb, cpu_seconds = status, ready_mb, ready_cpu  # the first plan was whole
         finally:
-            process.send_signal(signal.SIGTERM)
-            try:
-                process.wait(timeout=30)
-            except subprocess.TimeoutExpired:
-                process.kill()
-                process.wait()
+            stop_service_process(process)
             listener.close()
         return {"ready": ready, "status": status, "ready_mb": ready_mb, "ready_cpu": ready_cpu,
                 "planned": planned, "whole": whole, "peak_mb": peak_mb, "cpu": cpu_seconds,

@@ -9,7 +9,9 @@ from __future__ import annotations
 import contextlib
 import os
 import shutil
+import signal
 import socket
+import subprocess
 import tempfile
 import threading
 import time
@@ -101,3 +103,13 @@ def wait_until(predicate, what: str, deadline_seconds: float):
             raise AssertionError(f"timed out after {deadline_seconds:g} s waiting for {what}")
         time.sleep(POLL_SECONDS)
     return value
+
+
+def stop_service_process(process: subprocess.Popen, timeout_seconds: float = 30.0) -> None:
+    """SIGTERM a ``siderod run`` process and wait for its graceful stop; kill it if it overruns."""
+    process.send_signal(signal.SIGTERM)
+    try:
+        process.wait(timeout=timeout_seconds)
+    except subprocess.TimeoutExpired:
+        process.kill()
+        process.wait()

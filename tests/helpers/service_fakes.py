@@ -248,14 +248,7 @@ async def run_service_until(service, clock: FakeClock, until_utc: datetime, *, s
     """
     task = asyncio.get_running_loop().create_task(service.run())
     await wait_ready(service, task)
-    for _ in range(1000):
-        if service._whole_plan.is_set():
-            break
-        if task.done():
-            task.result()
-        await asyncio.sleep(0)
-    else:
-        raise AssertionError("the service did not plan its whole horizon")
+    await _wait_for_event(service._whole_plan, task, "the service did not plan its whole horizon")
     while clock.now_utc() < until_utc:
         seconds = min(step_seconds, (until_utc - clock.now_utc()).total_seconds())
         await clock.advance(seconds)
@@ -265,13 +258,18 @@ async def run_service_until(service, clock: FakeClock, until_utc: datetime, *, s
 
 
 async def wait_ready(service, task) -> None:
+    await _wait_for_event(service._ready, task, "the service did not become ready")
+
+
+async def _wait_for_event(event: asyncio.Event, task, failure: str) -> None:
+    """Let the loop turn (no time passes) until ``event`` is set; re-raise if ``task`` ended."""
     for _ in range(1000):
-        if service._ready.is_set():
+        if event.is_set():
             return
         if task.done():
             task.result()
         await asyncio.sleep(0)
-    raise AssertionError("the service did not become ready")
+    raise AssertionError(failure)
 
 
 async def stop_service(service, task) -> None:

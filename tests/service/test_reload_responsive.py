@@ -166,10 +166,5 @@ def test_status_and_watchdog_keep_answering_during_a_big_reload(short_dir):
         assert max(gaps, default=0) < WATCHDOG_INTERVAL_SECONDS + stall, gaps
         assert "configuration reloaded" in log_path.read_text()
     finally:
-        process.send_signal(signal.SIGTERM)
-        try:
-            process.wait(timeout=30)
-        except subprocess.TimeoutExpired:
-            process.kill()
-            process.wait()
+        real_service.stop_service_process(process)
         receiver.close()
